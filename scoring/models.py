@@ -343,6 +343,22 @@ def load_causal() -> LoadedModel:
 
 
 @functools.cache
+def causal_in_dtype(dtype: str = "float32"):
+    """The causal model in float32 or bfloat16 (a copy, made once). On CPUs with AVX-512 BF16
+    the bfloat16 copy runs about 2.8x faster here; perplexities shift slightly, order holds."""
+    loaded = load_causal()
+    if dtype == "float32":
+        return loaded.model
+    import copy
+
+    import torch
+
+    if dtype != "bfloat16":
+        raise ValueError(f"dtype must be float32 or bfloat16, got {dtype!r}")
+    return copy.deepcopy(loaded.model).to(torch.bfloat16).eval()
+
+
+@functools.cache
 def load_spacy():
     """spaCy's small English pipeline."""
     _package_dir(SPECS["spacy"])

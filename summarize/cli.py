@@ -7,11 +7,8 @@ import sys
 
 import click
 
-CAUTION = (
-    "A summary and its scores are estimates. A summary can mislead by what it leaves out: "
-    "legal, medical, financial or safety decisions need the source itself and the judgement "
-    "of a qualified person."
-)
+from scoring.coverage import CoverageConfig
+from summarize.report import CAUTION
 
 
 class Failure(click.ClickException):
@@ -31,7 +28,7 @@ def _fail_on_model_error(func):
 
         try:
             return func(*args, **kwargs)
-        except (ModelError, ValueError, OSError) as exc:
+        except (ModelError, ValueError, OSError, UnicodeError) as exc:
             raise Failure(str(exc).splitlines()[0] if str(exc) else type(exc).__name__) from exc
 
     return wrapper
@@ -101,6 +98,97 @@ def models_cmd(as_json, no_load):
     bad = [s for s in statuses if not (s.loads or (no_load and s.location))]
     if bad:
         raise Failure(f"{len(bad)} model(s) unavailable: {', '.join(s.key for s in bad)}; run `boildown setup`")
+
+
+def _read_source(path: str, any_language: bool) -> str:
+    from summarize.reading import looks_english, read_document
+
+    text = read_document(path).text
+    if not any_language and not looks_english(text):
+        raise Failure(
+            f"'{path}' does not look like English text; boildown's models are English-only "
+            "(pass --any-language to score it anyway)"
+        )
+    return text
+
+
+def _progress(quiet: bool):
+    return (lambda _m: None) if quiet else (lambda m: click.echo(f"boildown: {m}", err=True))
+
+
+@main.command()
+@click.argument("source", type=click.Path(dir_okay=False))
+@click.argument("summaries", nargs=-1, required=True)
+@click.option("--reference", "references", multiple=True, type=click.Path(dir_okay=False),
+              help="A human reference summary; adds ROUGE and BERTScore. Repeat for several.")
+@click.option("--words", type=click.IntRange(min=1), default=None,
+              help="Word budget: a candidate over it is flagged and ranked last.")
+@click.option("--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
+              help="How many key words to blank in the source.")
+@click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
+@click.option("--csv", "as_csv", is_flag=True, help="Print the ranked table as CSV.")
+@click.option("--explain/--no-explain", default=True, show_default=True,
+              help="After the table, list each candidate's recovered and missed key words.")
+@click.option("--any-language", is_flag=True, help="Score text that does not look like English.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress messages on stderr.")
+@_fail_on_model_error
+def score(source, summaries, references, words, keywords, as_json, as_csv, explain, any_language, quiet):
+    """Score SUMMARIES of SOURCE and rank them.
+
+    \b
+    SUMMARIES are files (txt, md, html, pdf, docx), "-" for standard input,
+    or a .jsonl file with one {"name": ..., "text": ...} per line.
+
+    \b
+    coverage  how much of the source's key content the summary lets a language
+              model recover: key words are blanked in the source and recovered
+              with the summary in front, against a same-length filler; the key
+              words still missed are listed.
+    fluency   from the small language model's perplexity, relative to the source's.
+    combined  0.75 coverage + 0.25 fluency; a summary over --words ranks last.
+
+    \b
+    Example:
+      boildown score report.txt draft_a.txt draft_b.txt --words 150
+    """
+    import dataclasses
+
+    from scoring.evaluate import EvalConfig, Evaluator, default_evaluator
+    from summarize import report
+    from summarize.reading import read_candidates, read_document
+    from summarize.segment import count_words
+
+    if as_json and as_csv:
+        raise click.UsageError("choose one of --json and --csv")
+    say = _progress(quiet)
+    text = _read_source(source, any_language)
+    stdin_text = click.get_text_stream("stdin").read() if "-" in summaries else None
+    candidates = read_candidates(summaries, stdin_text)
+    refs = [read_document(r).text for r in references]
+    source_words = count_words(text)
+    for name, body in candidates:
+        if not body.strip():
+            say(f"warning: candidate '{name}' is empty; it scores 0")
+        elif count_words(body) > source_words:
+            say(f"warning: candidate '{name}' ({count_words(body)} words) is longer than its source ({source_words})")
+    if keywords != CoverageConfig.keywords:
+        base = EvalConfig()
+        evaluator = Evaluator(dataclasses.replace(base, coverage=dataclasses.replace(base.coverage, keywords=keywords)))
+    else:
+        evaluator = default_evaluator()
+    ranked = evaluator.evaluate(candidates, source=text, references=refs, budget=words, progress=say)
+    if as_json:
+        click.echo(report.to_json(ranked, source=source, source_words=source_words, budget=words))
+    elif as_csv:
+        click.echo(report.to_csv(ranked), nl=False)
+    else:
+        click.echo(report.table(ranked))
+        if explain:
+            click.echo("")
+            click.echo(report.explanations(ranked))
+        click.echo("")
+        click.echo(report.signatures(ranked))
+        click.echo(report.CAUTION)
 
 
 if __name__ == "__main__":

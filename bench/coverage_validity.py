@@ -1,0 +1,117 @@
+"""Coverage validity on REALSumm: Kendall tau between coverage and human LitePyramid recall.
+
+Each REALSumm reference is treated as the source document: how much does each system summary
+help the causal model recover the reference's key words? Printed beside ROUGE-1 recall
+(rouge-score, stemming on) computed in the same run. Summary level: mean over documents of
+the tau across that document's summaries; system level: tau of per-system means over the 24
+distinct system names (the convention of ../shared/data/README.md).
+
+    .venv/bin/python bench/coverage_validity.py            # all 100 documents
+    .venv/bin/python bench/coverage_validity.py --docs 20 --set keywords=15
+"""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import json
+import math
+import re
+import sys
+import time
+from collections import defaultdict
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from bench.common import DATA, kendall, need, save  # noqa: E402
+
+
+def clean(text: str) -> str:
+    return re.sub(r"\s+", " ", re.sub(r"</?t>", " ", text)).strip()
+
+
+def load(limit: int | None):
+    rows = [json.loads(line) for line in open(need(DATA / "realsumm" / "realsumm_scores.jsonl"))]
+    docs = defaultdict(list)
+    for row in rows:
+        docs[row["doc_id"]].append(row)
+    ids = sorted(docs)[:limit] if limit else sorted(docs)
+    return {i: docs[i] for i in ids}
+
+
+def correlations(docs, values: dict[tuple, float]) -> tuple[float, float]:
+    per_doc = []
+    for doc_id, rows in docs.items():
+        human = [r["scores"]["litepyramid_recall"] for r in rows]
+        metric = [values[(doc_id, k)] for k in range(len(rows))]
+        tau = kendall(human, metric)
+        if not math.isnan(tau):
+            per_doc.append(tau)
+    by_system_h, by_system_m = defaultdict(list), defaultdict(list)
+    for doc_id, rows in docs.items():
+        for k, r in enumerate(rows):
+            by_system_h[r["system"]].append(r["scores"]["litepyramid_recall"])
+            by_system_m[r["system"]].append(values[(doc_id, k)])
+    systems = sorted(by_system_h)
+    sys_tau = kendall(
+        [sum(by_system_h[s]) / len(by_system_h[s]) for s in systems],
+        [sum(by_system_m[s]) / len(by_system_m[s]) for s in systems],
+    )
+    return sum(per_doc) / len(per_doc), sys_tau
+
+
+def main(argv=None):
+    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--docs", type=int, default=None, help="first N documents only (default: all 100)")
+    parser.add_argument("--set", action="append", default=[], help="coverage config override, key=value")
+    parser.add_argument("--name", default="coverage_validity", help="results file name under bench/results/")
+    args = parser.parse_args(argv)
+
+    from rouge_score import rouge_scorer
+
+    from scoring.coverage import CoverageConfig, CoverageScorer
+
+    fields = {f.name: f.type for f in dataclasses.fields(CoverageConfig)}
+    overrides = {}
+    for item in args.set:
+        key, _, value = item.partition("=")
+        default = getattr(CoverageConfig(), key)
+        overrides[key] = type(default)(value) if not isinstance(default, bool) else value in ("1", "true", "yes")
+    config = CoverageConfig(**overrides)
+    scorer = CoverageScorer(config)
+    docs = load(args.docs)
+    rouge = rouge_scorer.RougeScorer(["rouge1"], use_stemmer=True)
+
+    metrics = defaultdict(dict)
+    timings = []
+    for n, (doc_id, rows) in enumerate(docs.items()):
+        source = clean(rows[0]["reference"])
+        summaries = [clean(r["summary"]) for r in rows]
+        start = time.perf_counter()
+        results = scorer.score_many(summaries, source=source)
+        timings.append((time.perf_counter() - start) / len(rows))
+        for k, (row, res) in enumerate(zip(rows, results)):
+            metrics["coverage (headline: %s)" % config.headline][(doc_id, k)] = res.value
+            metrics["coverage logprob gain"][(doc_id, k)] = res.logprob_gain
+            metrics["coverage accuracy gain"][(doc_id, k)] = res.accuracy_gain
+            metrics["coverage prob gain"][(doc_id, k)] = res.prob_gain
+            metrics["ROUGE-1 recall (rouge-score, same run)"][(doc_id, k)] = rouge.score(source, summaries[k])["rouge1"].recall
+            metrics["ROUGE-1 recall (REALSumm release)"][(doc_id, k)] = row["scores"]["rouge_1_recall"]
+        print(f"\r{n + 1}/{len(docs)} documents, {sorted(timings)[len(timings) // 2]:.3f} s per summary (median)", end="", file=sys.stderr)
+    print(file=sys.stderr)
+
+    table = {}
+    print(f"\nREALSumm, {len(docs)} documents x {len(next(iter(docs.values())))} summaries; config: {config}")
+    print(f"{'metric':44s} {'summary-level tau':>18s} {'system-level tau':>17s}")
+    for name, values in metrics.items():
+        summary_tau, system_tau = correlations(docs, values)
+        table[name] = {"summary_level": round(summary_tau, 4), "system_level": round(system_tau, 4)}
+        print(f"{name:44s} {summary_tau:18.3f} {system_tau:17.3f}")
+    out = save(args.name, {"documents": len(docs), "config": dataclasses.asdict(config), "tau": table,
+                           "median_seconds_per_summary": sorted(timings)[len(timings) // 2],
+                           "signature": str(scorer.signature())})
+    print(f"written {out}")
+
+
+if __name__ == "__main__":
+    main()

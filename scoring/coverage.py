@@ -1,0 +1,396 @@
+"""Coverage by masked key-word recovery, read by a causal language model.
+
+The method: blank the source's key words, then ask a language model to recover each blank,
+once with the summary placed before the blanked text and once with a neutral filler of the
+same length (a run of dots) instead. What the summary adds to the recovery is its coverage:
+length alone earns nothing, and the key words the model still misses are the explanation.
+
+How the causal model recovers a blank: it reads the blanked text left to right, and the
+logits at the position just before a blank give the probability of the key word's first
+token from its left context (and the summary in front). Every occurrence of a key word is
+blanked, so the source never gives its own answer away. One pass scores every blank.
+
+Long documents go in windows: each scored blank needs only its left context (``window``
+tokens). Overlapping windows merge into ranges; the summary's key/value cache is computed
+once and shared by every range, so a candidate costs its own length plus the ranges, and the
+filler baseline is computed once per document (and filler length) and cached.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass, field
+
+from scoring.base import Signature
+from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
+
+HEADLINES = ("logprob", "accuracy", "prob")
+
+
+@dataclass(frozen=True)
+class CoverageConfig:
+    """Settings of the coverage scorer (CLI defaults and help read these)."""
+
+    keywords: int = 40
+    window: int = 96
+    max_blanks: int = 240
+    per_keyword: int = 6
+    headline: str = "logprob"
+    mode: str = "blank"
+    template: str = "{summary}\n\n"
+    lowercase: bool = True
+    dtype: str = "bfloat16"
+    blank: str = "___"
+    filler: str = "."
+    prefix_bucket: int = 32
+    batch_tokens: int = 4096
+
+    def __post_init__(self):
+        if self.headline not in HEADLINES:
+            raise ValueError(f"headline must be one of {HEADLINES}, got {self.headline!r}")
+        if self.dtype not in ("float32", "bfloat16"):
+            raise ValueError(f"dtype must be float32 or bfloat16, got {self.dtype!r}")
+        for name in ("keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "batch_tokens"):
+            if getattr(self, name) < 1:
+                raise ValueError(f"{name} must be at least 1, got {getattr(self, name)}")
+
+
+@dataclass(frozen=True)
+class KeywordEvidence:
+    """How one key word fared: its blanks' mean probability and hits, without and with the summary."""
+
+    word: str
+    blanks: int
+    p_without: float
+    p_with: float
+    hits_without: int
+    hits_with: int
+
+    @property
+    def status(self) -> str:
+        """recovered (thanks to the summary), known (recoverable from context alone), or missed."""
+        if self.hits_without * 2 > self.blanks:
+            return "known"
+        if self.hits_with * 2 > self.blanks or self.p_with >= 0.5:
+            return "recovered"
+        return "missed"
+
+
+@dataclass(frozen=True)
+class CoverageScore:
+    """Coverage of one summary, with its evidence."""
+
+    value: float
+    share: float
+    logprob_gain: float
+    accuracy_gain: float
+    prob_gain: float
+    accuracy_with: float
+    accuracy_without: float
+    n_keywords: int
+    n_blanks: int
+    keywords: tuple[KeywordEvidence, ...]
+    signature: Signature = field(compare=False)
+
+    @property
+    def recovered(self) -> tuple[str, ...]:
+        return tuple(k.word for k in self.keywords if k.status == "recovered")
+
+    @property
+    def missed(self) -> tuple[str, ...]:
+        return tuple(k.word for k in self.keywords if k.status == "missed")
+
+    @property
+    def known(self) -> tuple[str, ...]:
+        return tuple(k.word for k in self.keywords if k.status == "known")
+
+    def to_dict(self) -> dict:
+        return {
+            "value": self.value,
+            "share": self.share,
+            "logprob_gain": self.logprob_gain,
+            "accuracy_gain": self.accuracy_gain,
+            "prob_gain": self.prob_gain,
+            "accuracy_with": self.accuracy_with,
+            "accuracy_without": self.accuracy_without,
+            "n_keywords": self.n_keywords,
+            "n_blanks": self.n_blanks,
+            "recovered": list(self.recovered),
+            "missed": list(self.missed),
+            "known": list(self.known),
+            "keywords": [k.__dict__ | {"status": k.status} for k in self.keywords],
+            "signature": self.signature.to_dict(),
+        }
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """A source turned into token ids with its blanks: computed once per source."""
+
+    ids: tuple[int, ...]  # the blanked source
+    positions: tuple[int, ...]  # index whose logits predict each scored token
+    targets: tuple[int, ...]  # the token each scored position should recover
+    blank_of: tuple[int, ...]  # scored blank each scored token belongs to
+    owners: tuple[int, ...]  # key-word index of each scored blank
+    ranges: tuple[tuple[int, int], ...]  # merged windows [start, end) over ids
+    keyword_set: KeywordSet
+
+
+@dataclass(frozen=True)
+class _Pass:
+    """Per-blank log-probability and hit (argmax == target) for one prefix."""
+
+    logprobs: tuple[float, ...]
+    hits: tuple[bool, ...]
+
+
+class CoverageScorer:
+    """Masked key-word recovery with the packaged causal model (route: causal left context)."""
+
+    name = "coverage"
+
+    def __init__(self, config: CoverageConfig = CoverageConfig()):
+        self.config = config
+        self._baselines: dict[tuple[str, int], _Pass] = {}
+
+    # ------------------------------------------------------------------ public
+
+    def score(self, summary: str, *, source: str) -> CoverageScore:
+        return self.score_many([summary], source=source)[0]
+
+    def score_many(self, summaries: list[str], *, source: str) -> list[CoverageScore]:
+        """Score several summaries of one source; the plan and baselines are shared."""
+        if not source or not source.strip():
+            raise ValueError("the source is empty: nothing to cover")
+        plan = self._plan(source)
+        results = []
+        for summary in summaries:
+            results.append(self._score_one(summary or "", plan))
+        return results
+
+    def signature(self) -> Signature:
+        from scoring.models import short_checksum
+
+        c = self.config
+        return Signature.build(
+            "coverage",
+            {
+                "model": f"smollm2-135m@{short_checksum('causal')}",
+                "dtype": c.dtype,
+                "keys": c.keywords,
+                "window": c.window,
+                "blanks": c.max_blanks,
+                "perkey": c.per_keyword,
+                "head": c.headline,
+                "lower": c.lowercase,
+            },
+            ("torch", "transformers", "spacy"),
+        )
+
+    # ------------------------------------------------------------------ internals
+
+    @functools.cached_property
+    def _lm(self):
+        from scoring.models import causal_in_dtype, load_causal
+
+        return causal_in_dtype(self.config.dtype), load_causal().tokenizer
+
+    def _tokens(self, text: str) -> list[int]:
+        return self._lm[1](text, add_special_tokens=False).input_ids
+
+    @functools.lru_cache(maxsize=16)
+    def _plan(self, source: str) -> _Plan:
+        c = self.config
+        kwset = choose_keywords(source, KeywordConfig(count=c.keywords))
+        occurrences = kwset.occurrences()
+        lower = (lambda s: s.lower()) if c.lowercase else (lambda s: s)
+        blank_ids = self._tokens(c.blank)
+        spaced_blank_ids = self._tokens(" " + c.blank)
+        ids: list[int] = []
+        positions, targets, blank_of, owners = [], [], [], []
+        seen: dict[int, int] = {}
+        cursor = 0
+        for start, end, owner in occurrences:
+            segment = lower(source[cursor:start])
+            lead = ""
+            if segment.endswith(" "):
+                segment, lead = segment[:-1], " "
+            ids.extend(self._tokens(segment))
+            target = self._tokens(lead + lower(source[start:end]))
+            k = 0
+            while k < len(target) - 1 and not self._lm[1].decode([target[k]]).strip():
+                k += 1
+            ids.extend(target[:k])
+            seen[owner] = seen.get(owner, 0) + 1
+            wanted = seen[owner] <= c.per_keyword and len(owners) < c.max_blanks and ids
+            if c.mode == "reveal":
+                wanted = wanted and seen[owner] == 1
+            if wanted:
+                last = len(target) if c.mode == "reveal" else k + 1
+                for j in range(k, last):
+                    positions.append(len(ids) - 1 + j - k)
+                    targets.append(target[j])
+                    blank_of.append(len(owners))
+                owners.append(owner)
+            if c.mode == "reveal" and seen[owner] == 1:
+                ids.extend(target[k:])
+            else:
+                ids.extend(blank_ids if (k or not lead) else spaced_blank_ids)
+            cursor = end
+        ids.extend(self._tokens(lower(source[cursor:])))
+        ranges = _merge_windows(positions, c.window, len(ids))
+        return _Plan(tuple(ids), tuple(positions), tuple(targets), tuple(blank_of), tuple(owners), tuple(ranges), kwset)
+
+    def _prefix_ids(self, summary: str, length: int | None = None) -> tuple[list[int], int]:
+        """The template around the summary, whose tokens are padded on the left with filler to
+        a bucketed length; returns the ids and that length (the baseline's cache key)."""
+        c = self.config
+        before, _, after = c.template.partition("{summary}")
+        body = self._tokens((summary.lower() if c.lowercase else summary).strip()) if summary.strip() else []
+        bucket = c.prefix_bucket
+        size = length if length is not None else max(bucket, math.ceil(len(body) / bucket) * bucket)
+        pad = self._tokens(c.filler)[:1] * max(0, size - len(body))
+        head = self._tokens(before) if before else []
+        return head + pad + body[-size:] + self._tokens(after), size
+
+    def _baseline(self, plan: _Plan, size: int) -> _Pass:
+        key = (plan.keyword_set.text_hash, size)
+        if key not in self._baselines:
+            self._baselines[key] = self._run(self._prefix_ids("", size)[0], plan)
+        return self._baselines[key]
+
+    def _score_one(self, summary: str, plan: _Plan) -> CoverageScore:
+        sig = self.signature()
+        if not plan.positions:
+            return _empty(plan, sig)
+        prefix, size = self._prefix_ids(summary)
+        base = self._baseline(plan, size)
+        if summary.strip():
+            run = self._run(prefix, plan)
+        else:
+            run = base
+        return _summarise(plan, base, run, self.config, sig)
+
+    def _run(self, prefix: list[int], plan: _Plan) -> _Pass:
+        import torch
+        from transformers import DynamicCache
+
+        model, _ = self._lm
+        logprobs = [0.0] * len(plan.positions)
+        hits = [False] * len(plan.positions)
+        by_range: list[list[int]] = [[] for _ in plan.ranges]
+        r = 0
+        for i, pos in enumerate(plan.positions):
+            while plan.ranges[r][1] <= pos:
+                r += 1
+            by_range[r].append(i)
+        with torch.inference_mode():
+            head = model.model(input_ids=torch.tensor([prefix]), use_cache=True).past_key_values
+            start_pos = len(prefix)
+            order = sorted(range(len(plan.ranges)), key=lambda j: plan.ranges[j][1] - plan.ranges[j][0])
+            batches = _batches(order, plan.ranges, self.config.batch_tokens)
+            for batch in batches:
+                width = max(plan.ranges[j][1] - plan.ranges[j][0] for j in batch)
+                ids = torch.zeros((len(batch), width), dtype=torch.long)
+                for row, j in enumerate(batch):
+                    a, b = plan.ranges[j]
+                    ids[row, : b - a] = torch.tensor(plan.ids[a:b])
+                cache = DynamicCache(
+                    ddp_cache_data=[
+                        (layer.keys.expand(len(batch), -1, -1, -1), layer.values.expand(len(batch), -1, -1, -1))
+                        for layer in head.layers
+                    ]
+                )
+                positions = (start_pos + torch.arange(width)).unsqueeze(0).expand(len(batch), -1)
+                hidden = model.model(input_ids=ids, past_key_values=cache, position_ids=positions).last_hidden_state
+                rows, cols, wanted = [], [], []
+                for row, j in enumerate(batch):
+                    for i in by_range[j]:
+                        rows.append(row)
+                        cols.append(plan.positions[i] - plan.ranges[j][0])
+                        wanted.append(i)
+                if not wanted:
+                    continue
+                logits = model.lm_head(hidden[rows, cols]).float()
+                logp = torch.log_softmax(logits, dim=-1)
+                tgt = torch.tensor([plan.targets[i] for i in wanted])
+                lp = logp.gather(1, tgt[:, None])[:, 0]
+                best = logp.argmax(dim=-1)
+                for n, i in enumerate(wanted):
+                    logprobs[i] = float(lp[n])
+                    hits[i] = bool(best[n] == tgt[n])
+        blank_lp = [0.0] * len(plan.owners)
+        blank_hit = [True] * len(plan.owners)
+        for i, blank in enumerate(plan.blank_of):
+            blank_lp[blank] += logprobs[i]
+            blank_hit[blank] = blank_hit[blank] and hits[i]
+        return _Pass(tuple(blank_lp), tuple(blank_hit))
+
+
+def _merge_windows(positions: list[int], window: int, length: int) -> list[tuple[int, int]]:
+    ranges: list[list[int]] = []
+    for pos in sorted(positions):
+        a, b = max(0, pos - window + 1), min(length, pos + 1)
+        if ranges and a <= ranges[-1][1]:
+            ranges[-1][1] = max(ranges[-1][1], b)
+        else:
+            ranges.append([a, b])
+    return [(a, b) for a, b in ranges]
+
+
+def _batches(order: list[int], ranges, budget: int) -> list[list[int]]:
+    batches: list[list[int]] = []
+    current: list[int] = []
+    for j in order:
+        width = ranges[j][1] - ranges[j][0]
+        if current and width * (len(current) + 1) > budget:
+            batches.append(current)
+            current = []
+        current.append(j)
+    if current:
+        batches.append(current)
+    return batches
+
+
+def _empty(plan: _Plan, sig: Signature) -> CoverageScore:
+    return CoverageScore(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, len(plan.keyword_set.keywords), 0, (), sig)
+
+
+def _summarise(plan: _Plan, base: _Pass, run: _Pass, config: CoverageConfig, sig: Signature) -> CoverageScore:
+    n = len(plan.owners)
+    lp_gain = sum(w - b for w, b in zip(run.logprobs, base.logprobs)) / n
+    surprisal = -sum(base.logprobs) / n
+    share = lp_gain / surprisal if surprisal > 0 else 0.0
+    p_gain = sum(math.exp(w) - math.exp(b) for w, b in zip(run.logprobs, base.logprobs)) / n
+    acc_with = sum(run.hits) / n
+    acc_without = sum(base.hits) / n
+    evidence = []
+    for k, kw in enumerate(plan.keyword_set.keywords):
+        mine = [i for i, owner in enumerate(plan.owners) if owner == k]
+        if not mine:
+            continue
+        evidence.append(
+            KeywordEvidence(
+                word=kw.lemma,
+                blanks=len(mine),
+                p_without=round(sum(math.exp(base.logprobs[i]) for i in mine) / len(mine), 4),
+                p_with=round(sum(math.exp(run.logprobs[i]) for i in mine) / len(mine), 4),
+                hits_without=sum(base.hits[i] for i in mine),
+                hits_with=sum(run.hits[i] for i in mine),
+            )
+        )
+    headline = {"logprob": lp_gain, "accuracy": acc_with - acc_without, "prob": p_gain}[config.headline]
+    return CoverageScore(
+        value=round(headline, 6),
+        share=round(share, 6),
+        logprob_gain=round(lp_gain, 6),
+        accuracy_gain=round(acc_with - acc_without, 6),
+        prob_gain=round(p_gain, 6),
+        accuracy_with=round(acc_with, 6),
+        accuracy_without=round(acc_without, 6),
+        n_keywords=len(plan.keyword_set.keywords),
+        n_blanks=n,
+        keywords=tuple(evidence),
+        signature=sig,
+    )
