@@ -191,5 +191,63 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
         click.echo(report.CAUTION)
 
 
+@main.command(name="compare")
+@click.argument("source", type=click.Path(dir_okay=False))
+@click.argument("candidates", nargs=-1, required=True)
+@click.option("--reference", "references", multiple=True, type=click.Path(dir_okay=False),
+              help="A human reference summary; adds ROUGE and BERTScore. Repeat for several.")
+@click.option("--words", type=click.IntRange(min=1), default=None,
+              help="Word budget: a candidate over it is flagged and ranked last.")
+@click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
+              help="Write the comparison page (one self-contained HTML file) to this path and print the path.")
+@click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
+@click.option("--any-language", is_flag=True, help="Compare text that does not look like English.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress messages on stderr.")
+@_fail_on_model_error
+def compare_cmd(source, candidates, references, words, html_path, as_json, any_language, quiet):
+    """Compare CANDIDATES (summaries of SOURCE) side by side.
+
+    \b
+    CANDIDATES are files (txt, md, html, pdf, docx), "-" for standard input,
+    or a .jsonl file with one {"name": ..., "text": ...} per line.
+
+    Prints the ranked table and a grid of the source's key words against the
+    candidates (+ recovered with the summary, = known from the source's context
+    alone, - missed). --html writes a page that also shows the source with its
+    key words marked, and links every candidate sentence to the source sentences
+    it draws on.
+
+    \b
+    Example:
+      boildown compare report.txt draft_a.txt draft_b.txt --words 150 --html cmp.html
+    """
+    from summarize import compare as comparing
+    from summarize import report_html
+    from summarize.reading import read_candidates, read_document
+
+    if html_path:
+        report_html.check_target(html_path)  # fail before minutes of scoring, not after
+    say = _progress(quiet)
+    _read_source(source, any_language)  # the English check and its message
+    document = read_document(source)  # headings and lists for the page
+    stdin_text = click.get_text_stream("stdin").read() if "-" in candidates else None
+    pairs = read_candidates(candidates, stdin_text)
+    refs = [read_document(r).text for r in references]
+    # --summaries N goes here (main engineer): add boildown's own candidates to `pairs` and pass
+    # their sentence provenance as compare(..., provenance={name: [[source sentence indices], ...]}).
+    provenance = None
+    for warning in comparing.candidate_warnings(document.text, pairs):
+        say(warning)
+    result = comparing.compare(
+        document, pairs, references=refs, budget=words, progress=say, provenance=provenance, name=source
+    )
+    if html_path:
+        click.echo(str(report_html.write_html(result, html_path)), err=as_json)
+    if as_json:
+        click.echo(comparing.to_json(result))
+    elif not html_path:
+        click.echo(comparing.table(result))
+
+
 if __name__ == "__main__":
     main()

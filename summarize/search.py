@@ -1,0 +1,362 @@
+"""Candidate search: build several summaries that weigh salience, position, diversity and
+compression differently, fit each to the word budget exactly, score them all, rank them.
+
+Per candidate ("recipe"):
+1. select sentences (``extract``) greedily under 1.4x the budget, giving a ranked pool;
+2. find deletable spans in the pool (``compress``) and price each: its key-word loss
+   (salience of the source's key words it would remove and that appear nowhere else in the
+   pool) and its fluency cost (how much the causal model's mean token log-probability of the
+   sentence falls without it); deletions cheaper per word than the recipe's threshold are made;
+3. select again from the compressed pool under the real budget;
+4. fill: restore deleted spans, most valuable first, while they fit; if the summary is still
+   under 95% of the budget, add the best compressed sentence that fits, and as a last resort
+   the best remaining sentence cut at a word boundary and marked with an ellipsis.
+Every candidate is then scored by ``scoring.evaluate`` and the best is returned.
+"""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass, field, replace
+from typing import Callable
+
+import numpy as np
+
+from summarize.compress import Deletion
+from summarize.extract import ExtractConfig
+
+FILL_TARGET = 0.95
+
+
+@dataclass(frozen=True)
+class Recipe:
+    """One way to build a candidate."""
+
+    name: str
+    extract: ExtractConfig = field(default_factory=ExtractConfig)
+    method: str = "submodular"  # or "mmr"
+    compress: float = 0.6  # deletion threshold: key-word and fluency cost per word saved; 0 = off
+    sections: bool = False  # share the budget across sections by salience
+
+
+RECIPES: tuple[Recipe, ...] = (
+    Recipe("balanced"),
+    Recipe("opening-and-close", ExtractConfig(lead_weight=1.0, end_weight=0.4, section_weight=0.4)),
+    Recipe("central", ExtractConfig(lead_weight=0.0, end_weight=0.0, section_weight=0.0)),
+    Recipe("diverse", ExtractConfig(diversity=14.0, alpha=0.08)),
+    Recipe("by-section", sections=True),
+    Recipe("lexical", ExtractConfig(embed_weight=0.0)),
+    Recipe("tight", compress=1.2),
+    Recipe("mmr", method="mmr"),
+    Recipe("uncompressed", compress=0.0),
+    Recipe("semantic", ExtractConfig(embed_weight=1.0, lead_weight=0.5)),
+)
+
+
+@dataclass(frozen=True)
+class SummarySentence:
+    text: str
+    source: int  # index of the source sentence it comes from (provenance)
+    deleted: tuple[str, ...] = ()  # spans removed from the source sentence
+    cut: bool = False  # shortened at a word boundary (last resort to fill the budget)
+
+
+@dataclass(frozen=True)
+class Draft:
+    """A candidate before scoring."""
+
+    recipe: str
+    sentences: tuple[SummarySentence, ...]
+
+    @property
+    def text(self) -> str:
+        return " ".join(s.text for s in self.sentences)
+
+    @property
+    def words(self) -> int:
+        return len(self.text.split())
+
+
+@dataclass
+class Analysis:
+    """What every recipe shares for one document: sentences, vectors, similarities, key words."""
+
+    sentences: list
+    texts: list[str]
+    costs: np.ndarray
+    vectors: np.ndarray
+    tfidf: np.ndarray
+    headings: dict[int, str]
+    n_sections: int
+    keyword_salience: dict[str, float]
+    _sim: dict = field(default_factory=dict)
+    _parse: dict = field(default_factory=dict)
+    _fluency: dict = field(default_factory=dict)
+
+    def sim(self, embed_weight: float) -> np.ndarray:
+        from summarize.extract import similarity
+
+        if embed_weight not in self._sim:
+            self._sim[embed_weight] = similarity(self.vectors, self.tfidf, embed_weight)
+        return self._sim[embed_weight]
+
+
+def analyse(document, keywords: int = 40, progress: Callable[[str], None] | None = None) -> Analysis:
+    from scoring.keywords import KeywordConfig, choose_keywords
+    from summarize.embed import embed, tfidf
+    from summarize.segment import segment
+
+    say = progress or (lambda _m: None)
+    sentences = segment(document)
+    texts = [s.text for s in sentences]
+    headings, section = {}, 0
+    for block in document.blocks:
+        if block.kind == "heading":
+            section += 1
+            headings[section] = block.text
+    say(f"embedding {len(texts)} sentences")
+    vectors = embed(texts)
+    say("choosing key words")
+    kwset = choose_keywords(document.text, KeywordConfig(count=keywords))
+    top = max((k.salience for k in kwset.keywords), default=1.0)
+    salience = {k.lemma: k.salience / top for k in kwset.keywords}
+    costs = np.array([max(1, len(t.split())) for t in texts])
+    return Analysis(sentences, texts, costs, vectors, tfidf(texts), headings, section, salience)
+
+
+def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Draft:
+    """One candidate, fitted to the budget."""
+    from summarize.extract import mmr, pagerank, priors, select
+
+    a = analysis
+    cfg = recipe.extract
+    sim = a.sim(cfg.embed_weight)
+    eligible = (a.costs >= cfg.min_words) & (a.costs <= max(cfg.max_words, budget // 2))
+    if not eligible.any():
+        eligible = a.costs >= 1
+    prior = priors(a.sentences, a.n_sections, a.headings, cfg)
+    salience = pagerank(sim, cfg.damping) * prior
+    k = max(1, int(round(cfg.cluster_share * len(a.texts))))
+    labels = _clusters(a, k)
+    pool_budget = int(budget * 1.4) + 10
+
+    def choose(costs, limit, allowed):
+        if recipe.method == "mmr":
+            masked = np.where(allowed, costs, 10**9)
+            return mmr(sim, salience, masked, limit)
+        if recipe.sections and a.n_sections >= 3:
+            return _by_section(a, sim, salience, costs, limit, labels, cfg, allowed)
+        return select(sim, salience, costs, limit, labels, cfg, eligible=allowed)
+
+    pool = choose(a.costs, pool_budget, eligible)
+    texts = {i: a.texts[i] for i in pool}
+    dropped: dict[int, list[Deletion]] = {i: [] for i in pool}
+    if recipe.compress > 0 and pool:
+        dropped = _compress(a, pool, recipe.compress)
+        from summarize.compress import apply
+
+        texts = {i: apply(a.texts[i], dropped[i]) if dropped[i] else a.texts[i] for i in pool}
+    costs = a.costs.copy().astype(float)
+    for i in pool:
+        costs[i] = max(1, len(texts[i].split()))
+    allowed = np.zeros(len(a.texts), dtype=bool)
+    allowed[pool] = True
+    chosen = choose(costs, budget, allowed & eligible) if pool else []
+    draft = _fill(a, chosen, texts, dropped, budget, salience, eligible)
+    return replace(draft, recipe=recipe.name)
+
+
+def _clusters(a: Analysis, k: int) -> np.ndarray:
+    from summarize.extract import clusters
+
+    key = ("clusters", k)
+    if key not in a._sim:
+        a._sim[key] = clusters(a.vectors, k)
+    return a._sim[key]
+
+
+def _by_section(a, sim, salience, costs, budget, labels, cfg, allowed) -> list[int]:
+    """Share the budget across sections in proportion to their salience, then select in each."""
+    from summarize.extract import select
+
+    sections = sorted({s.section for s in a.sentences})
+    mass = {sec: float(sum(salience[i] for i, s in enumerate(a.sentences) if s.section == sec and allowed[i]))
+            for sec in sections}
+    total = sum(mass.values()) or 1.0
+    chosen: list[int] = []
+    used = 0
+    for sec in sorted(sections, key=lambda s: -mass[s]):
+        share = int(budget * mass[sec] / total)
+        mask = allowed & np.array([s.section == sec for s in a.sentences])
+        if share <= 0 or not mask.any():
+            continue
+        picked = select(sim, salience, costs, min(share, budget - used), labels, cfg, eligible=mask)
+        chosen += picked
+        used += int(sum(costs[j] for j in picked))
+    # leftover words: continue the global greedy from what the sections chose
+    rest = select(sim, salience, costs, budget, labels, cfg, start=chosen, eligible=allowed)
+    return sorted(set(rest))
+
+
+def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[Deletion]]:
+    """Deletions to make in each pool sentence: cheap ones by key-word loss and fluency cost."""
+    from summarize.compress import compatible
+
+    found = _deletions(a, pool)
+    pool_text = " ".join(a.texts[i] for i in pool).lower()
+    priced = []
+    for i, dels in found.items():
+        for d in dels:
+            kw = _keyword_loss(a, d, pool_text)
+            flu = _fluency_cost(a, i, d)
+            priced.append(((kw + flu) / max(1, d.words), kw + flu, i, d))
+    priced.sort(key=lambda x: x[0])
+    out: dict[int, list[Deletion]] = {i: [] for i in pool}
+    for per_word, _cost, i, d in priced:
+        if per_word > threshold:
+            break
+        trial = out[i] + [d]
+        if compatible(trial) and sum(x.words for x in trial) < 0.7 * a.costs[i]:
+            out[i] = trial
+    return out
+
+
+def _deletions(a: Analysis, pool: list[int]) -> dict[int, list[Deletion]]:
+    from summarize.compress import find
+
+    todo = [i for i in pool if i not in a._parse]
+    if todo:
+        for i in todo:
+            a._parse[i] = []
+        for d in find([a.texts[i] for i in todo]):
+            i = todo[d.sentence]
+            a._parse[i].append(replace(d, sentence=i))
+    return {i: a._parse[i] for i in pool}
+
+
+def _keyword_loss(a: Analysis, d: Deletion, pool_text: str) -> float:
+    """Salience of the key words the span holds that the rest of the pool does not repeat."""
+    from summarize.embed import words
+
+    loss = 0.0
+    for w in set(words(d.text)):
+        s = a.keyword_salience.get(w)
+        if s and pool_text.count(w) <= 1:
+            loss += s
+    return loss
+
+
+def _fluency_cost(a: Analysis, i: int, d: Deletion) -> float:
+    """Drop in the causal model's mean token log-probability when the span goes (>= 0)."""
+    key = (i, d.start, d.end)
+    if key not in a._fluency:
+        _price_fluency(a)
+    return a._fluency.get(key, 1.0)
+
+
+def _price_fluency(a: Analysis) -> None:
+    """Batch every unpriced deletion of every parsed sentence through the causal model."""
+    from summarize.compress import apply
+
+    todo = [(i, d) for i, dels in a._parse.items() for d in dels if (i, d.start, d.end) not in a._fluency]
+    if not todo:
+        return
+    originals = sorted({i for i, _ in todo})
+    texts = [[a.texts[i]] for i in originals] + [[apply(a.texts[i], [d])] for i, d in todo]
+    scored = _token_model().logprobs(texts)
+    base = {i: _mean(scored[n][0]) for n, i in enumerate(originals)}
+    for n, (i, d) in enumerate(todo):
+        after = _mean(scored[len(originals) + n][0])
+        a._fluency[(i, d.start, d.end)] = max(0.0, base[i] - after)
+
+
+@functools.cache
+def _token_model():
+    from scoring.fluency import CausalTokenModel
+
+    return CausalTokenModel("bfloat16")
+
+
+def _mean(values: list[float]) -> float:
+    return sum(values) / len(values) if values else 0.0
+
+
+def _fill(a: Analysis, chosen: list[int], texts: dict[int, str], dropped: dict[int, list[Deletion]],
+          budget: int, salience: np.ndarray, eligible: np.ndarray) -> Draft:
+    """Bring the draft as close to the budget as it can go without passing it."""
+    from summarize.compress import apply
+
+    chosen = sorted(chosen)
+    current = {i: list(dropped.get(i, [])) for i in chosen}
+    text_of = {i: texts.get(i, a.texts[i]) for i in chosen}
+    used = sum(len(text_of[i].split()) for i in chosen)
+    # 1. restore deleted spans, most key-word-rich first, while they fit
+    restorable = sorted(
+        ((d, i) for i in chosen for d in current[i]),
+        key=lambda x: -sum(a.keyword_salience.get(w, 0) for w in x[0].text.lower().split()) / max(1, x[0].words),
+    )
+    for d, i in restorable:
+        keep = [x for x in current[i] if x is not d]
+        new = apply(a.texts[i], keep) if keep else a.texts[i]
+        delta = len(new.split()) - len(text_of[i].split())
+        if used + delta <= budget:
+            current[i], text_of[i] = keep, new
+            used += delta
+    # 2. still short: add the best sentence that fits (compressed form if we have it)
+    if used < FILL_TARGET * budget:
+        order = np.argsort(-salience)
+        for j in order:
+            j = int(j)
+            if j in text_of:
+                continue
+            form = texts.get(j, a.texts[j])
+            if used + len(form.split()) <= budget and eligible[j]:
+                text_of[j] = form
+                current[j] = list(dropped.get(j, []))
+                used += len(form.split())
+                if used >= FILL_TARGET * budget:
+                    break
+    cut = None
+    # 3. last resort: the best remaining sentence cut at a word boundary
+    if used < FILL_TARGET * budget:
+        room = budget - used
+        order = np.argsort(-salience)
+        for j in order:
+            j = int(j)
+            if j in text_of:
+                continue
+            form = texts.get(j, a.texts[j]).split()
+            if len(form) > room:
+                text_of[j] = " ".join(form[:room]).rstrip(",;:") + "…"
+                current[j] = list(dropped.get(j, []))
+                cut = j
+                used += room
+                break
+    sentences = tuple(
+        SummarySentence(text_of[i], a.sentences[i].index, tuple(d.text.strip(" ,") for d in current.get(i, [])), i == cut)
+        for i in sorted(text_of)
+    )
+    return Draft("", sentences)
+
+
+def by_sentences(analysis: Analysis, n: int) -> Draft:
+    """The n most salient non-redundant sentences (the --sentences mode), no compression."""
+    from summarize.extract import pagerank, priors, select
+
+    a = analysis
+    cfg = ExtractConfig()
+    sim = a.sim(cfg.embed_weight)
+    salience = pagerank(sim, cfg.damping) * priors(a.sentences, a.n_sections, a.headings, cfg)
+    labels = _clusters(a, max(1, int(round(cfg.cluster_share * len(a.texts)))))
+    chosen = select(sim, salience, np.ones(len(a.texts)), n, labels, cfg)
+    return Draft("by-sentences", tuple(SummarySentence(a.texts[i], i) for i in chosen))
+
+
+def distinct(drafts: list[Draft]) -> list[Draft]:
+    """Drop drafts whose text repeats an earlier one (recipes often agree)."""
+    seen, out = set(), []
+    for d in drafts:
+        if d.text not in seen:
+            seen.add(d.text)
+            out.append(d)
+    return out
