@@ -84,6 +84,7 @@ class Analysis:
     sentences: list
     texts: list[str]
     costs: np.ndarray
+    complete: np.ndarray  # ends like a sentence (not a heading, contents line or table cell)
     vectors: np.ndarray
     tfidf: np.ndarray
     headings: dict[int, str]
@@ -121,7 +122,17 @@ def analyse(document, keywords: int = 40, progress: Callable[[str], None] | None
     top = max((k.salience for k in kwset.keywords), default=1.0)
     salience = {k.lemma: k.salience / top for k in kwset.keywords}
     costs = np.array([max(1, len(t.split())) for t in texts])
-    return Analysis(sentences, texts, costs, vectors, tfidf(texts), headings, section, salience)
+    complete = np.array([_complete(t) for t in texts], dtype=bool)
+    return Analysis(sentences, texts, costs, complete, vectors, tfidf(texts), headings, section, salience)
+
+
+_ENDINGS = (".", "!", "?", '."', '?"', '!"', ".\u201d", ".)", ".'")
+
+
+def _complete(text: str) -> bool:
+    """A full sentence: ends with terminal punctuation and has a lower-case word in it."""
+    t = text.rstrip()
+    return t.endswith(_ENDINGS) and any(w.islower() for w in t.split()[1:])
 
 
 def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Draft:
@@ -131,9 +142,10 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
     a = analysis
     cfg = recipe.extract
     sim = a.sim(cfg.embed_weight)
-    eligible = (a.costs >= cfg.min_words) & (a.costs <= max(cfg.max_words, budget // 2))
-    if not eligible.any():
-        eligible = a.costs >= 1
+    sized = (a.costs >= cfg.min_words) & (a.costs <= max(cfg.max_words, budget // 2))
+    eligible = sized & a.complete
+    if a.costs[eligible].sum() < budget:  # too few full sentences (e.g. unpunctuated text)
+        eligible = sized if a.costs[sized].sum() >= budget else a.costs >= 1
     prior = priors(a.sentences, a.n_sections, a.headings, cfg)
     salience = pagerank(sim, cfg.damping) * prior
     k = max(1, int(round(cfg.cluster_share * len(a.texts))))

@@ -1,0 +1,112 @@
+"""Coverage by masked key-word recovery: mechanics, decided behaviours, and checks against
+external data (SQuALITY dev human summaries)."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from scoring.coverage import RECOVERED_GAIN, CoverageConfig, CoverageScorer, KeywordEvidence, _merge_windows
+from conftest import shared_data
+
+SOURCE = (
+    "The Harrowmere Valley Water Board met in Calderby on 12 March. Storage in Thornmoor reservoir "
+    "had fallen to 48 percent after the driest spring in forty years. The board approved a hosepipe "
+    "ban for Wenlow Cross and Ashpool, and asked the Scarrow treatment works to run its second "
+    "filter line. Engineers reported that leakage fell to 21 megalitres a day after the renewal of "
+    "twelve kilometres of cast-iron mains. The chair, Dr. Ines Korrow, thanked the crews."
+)
+GOOD = "Thornmoor reservoir fell to 48 percent, so the board approved a hosepipe ban for Wenlow Cross and Ashpool; leakage fell to 21 megalitres a day."
+UNRELATED = "A village fete raised money for the lifeboat station; the cake stall and the raffle did best."
+
+
+def test_merge_windows():
+    assert _merge_windows([5, 8, 30], 4, 40) == [(2, 9), (27, 31)]
+    assert _merge_windows([], 4, 40) == []
+
+
+@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
+def test_config_is_validated(bad):
+    with pytest.raises(ValueError):
+        CoverageConfig(**bad)
+
+
+@pytest.mark.parametrize(
+    "p0, p1, status",
+    [(0.30, 0.90, "known"), (0.001, 0.20, "recovered"), (0.01, 0.04, "missed"), (0.02, 0.06, "missed")],
+)
+def test_keyword_states(p0, p1, status):
+    # recovered needs p1 >= 0.05 and a gain of at least RECOVERED_GAIN nats (0.06/0.02 = e^1.1)
+    assert RECOVERED_GAIN == 1.5
+    assert KeywordEvidence("w", 1, p0, p1, 0, 0).status == status
+
+
+def test_empty_source_is_refused():
+    with pytest.raises(ValueError, match="source is empty"):
+        CoverageScorer().score("anything", source="   ")
+
+
+@pytest.mark.models
+def test_empty_summary_scores_zero_and_misses_everything():
+    result = CoverageScorer().score("", source=SOURCE)
+    assert result.value == 0.0 and result.share == 0.0 and result.logprob_gain == 0.0
+    assert result.recovered == ()
+    assert result.n_blanks > 5
+
+
+@pytest.mark.models
+def test_order_copy_good_unrelated():
+    scorer = CoverageScorer()
+    copy, good, unrelated = scorer.score_many([SOURCE, GOOD, UNRELATED], source=SOURCE)
+    assert copy.share > good.share > unrelated.share
+    assert abs(unrelated.share) < 0.1
+    assert {"thornmoor", "hosepipe"} <= set(good.recovered)
+    assert "korrow" in good.missed
+
+
+@pytest.mark.models
+def test_signature_text():
+    from scoring.base import package_version
+    from scoring.models import short_checksum
+
+    sig = str(CoverageScorer().signature())
+    assert sig == (
+        f"coverage|model:smollm2-135m@{short_checksum('causal')}|dtype:bfloat16|keys:40|window:96|"
+        f"blanks:240|perkey:6|head:logprob|lower:yes|torch:{package_version('torch')}|"
+        f"hf:{package_version('transformers')}|spacy:{package_version('spacy')}|v:{package_version('boildown')}"
+    )
+
+
+@pytest.mark.models
+def test_baseline_is_computed_once_per_document():
+    scorer = CoverageScorer()
+    calls = []
+    real = scorer._run
+    scorer._run = lambda prefix, plan: calls.append(len(prefix)) or real(prefix, plan)
+    scorer.score_many([GOOD, GOOD + " " + GOOD[:40], UNRELATED], source=SOURCE)
+    # three summary passes, and one filler pass per distinct filler length (32-token buckets)
+    assert len(calls) <= 3 + 2
+
+
+@pytest.mark.models
+def test_squality_dev_own_summary_beats_another_storys():
+    # External data: SQuALITY v1.3 dev (25 public-domain stories, human plot summaries, CC BY 4.0).
+    # The issue's check: for at least 23 of 25 stories, a human summary of that story covers it
+    # better than a human summary of a different story.
+    import sys
+    from pathlib import Path
+
+    shared_data("squality", "dev.jsonl")
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+    from bench.data import squality
+
+    stories = squality("dev")
+    assert len(stories) == 25
+    scorer = CoverageScorer()
+    wins = 0
+    for i, story in enumerate(stories):
+        other = stories[(i + 1) % len(stories)]
+        own, foreign = scorer.score_many([story.references[0], other.references[0]], source=story.source_text)
+        wins += own.share > foreign.share
+    assert wins >= 23, f"own summary won on {wins}/25 stories"
