@@ -62,6 +62,7 @@ class CoverageConfig:
     blank: str = "___"
     filler: str = "."
     prefix_bucket: int = 32
+    row_tokens: int = 512
     batch_tokens: int = 4096
 
     def __post_init__(self):
@@ -71,7 +72,7 @@ class CoverageConfig:
             raise ValueError(f"headline must be one of {HEADLINES}, got {self.headline!r}")
         if self.dtype not in ("float32", "bfloat16"):
             raise ValueError(f"dtype must be float32 or bfloat16, got {self.dtype!r}")
-        for name in ("keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "batch_tokens"):
+        for name in ("keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "row_tokens", "batch_tokens"):
             if getattr(self, name) < 1:
                 raise ValueError(f"{name} must be at least 1, got {getattr(self, name)}")
 
@@ -155,6 +156,7 @@ class _Plan:
     blank_of: tuple[int, ...]  # scored blank each scored token belongs to
     owners: tuple[int, ...]  # key-word index of each scored blank
     ranges: tuple[tuple[int, int], ...]  # merged windows [start, end) over ids
+    rows: tuple[tuple[tuple[int, ...], tuple[tuple[int, int], ...]], ...]  # packed windows: (ids, (column, scored index))
     keyword_set: KeywordSet
 
 
@@ -261,7 +263,8 @@ class CoverageScorer:
             cursor = end
         ids.extend(self._tokens(lower(source[cursor:])))
         ranges = _merge_windows(positions, c.window, len(ids))
-        return _Plan(tuple(ids), tuple(positions), tuple(targets), tuple(blank_of), tuple(owners), tuple(ranges), kwset)
+        rows = _pack(ranges, positions, ids, self._tokens("\n\n"), c.row_tokens)
+        return _Plan(tuple(ids), tuple(positions), tuple(targets), tuple(blank_of), tuple(owners), tuple(ranges), rows, kwset)
 
     def _prefix_ids(self, summary: str, length: int | None = None) -> tuple[list[int], int]:
         """The template around the summary, whose tokens are padded on the left with filler to
@@ -294,29 +297,22 @@ class CoverageScorer:
         return _summarise(plan, base, run, self.config, sig)
 
     def _run(self, prefix: list[int], plan: _Plan) -> _Pass:
+        """One pass: the prefix's key/value cache, then every packed row of windows after it."""
         import torch
         from transformers import DynamicCache
 
         model, _ = self._lm
         logprobs = [0.0] * len(plan.positions)
         hits = [False] * len(plan.positions)
-        by_range: list[list[int]] = [[] for _ in plan.ranges]
-        r = 0
-        for i, pos in enumerate(plan.positions):
-            while plan.ranges[r][1] <= pos:
-                r += 1
-            by_range[r].append(i)
         with torch.inference_mode():
             head = model.model(input_ids=torch.tensor([prefix]), use_cache=True).past_key_values
             start_pos = len(prefix)
-            order = sorted(range(len(plan.ranges)), key=lambda j: plan.ranges[j][1] - plan.ranges[j][0])
-            batches = _batches(order, plan.ranges, self.config.batch_tokens)
-            for batch in batches:
-                width = max(plan.ranges[j][1] - plan.ranges[j][0] for j in batch)
+            for batch in _batches(list(range(len(plan.rows))), [len(r[0]) for r in plan.rows], self.config.batch_tokens):
+                width = max(len(plan.rows[j][0]) for j in batch)
                 ids = torch.zeros((len(batch), width), dtype=torch.long)
                 for row, j in enumerate(batch):
-                    a, b = plan.ranges[j]
-                    ids[row, : b - a] = torch.tensor(plan.ids[a:b])
+                    ids[row, : len(plan.rows[j][0])] = torch.tensor(plan.rows[j][0])
+                # a fresh cache object per batch (the model appends to the one it is given)
                 cache = DynamicCache(
                     ddp_cache_data=[
                         (layer.keys.expand(len(batch), -1, -1, -1), layer.values.expand(len(batch), -1, -1, -1))
@@ -324,12 +320,12 @@ class CoverageScorer:
                     ]
                 )
                 positions = (start_pos + torch.arange(width)).unsqueeze(0).expand(len(batch), -1)
-                hidden = model.model(input_ids=ids, past_key_values=cache, position_ids=positions).last_hidden_state
+                hidden = model.model(input_ids=ids, cache=cache, position_ids=positions).last_hidden_state
                 rows, cols, wanted = [], [], []
                 for row, j in enumerate(batch):
-                    for i in by_range[j]:
+                    for col, i in plan.rows[j][1]:
                         rows.append(row)
-                        cols.append(plan.positions[i] - plan.ranges[j][0])
+                        cols.append(col)
                         wanted.append(i)
                 if not wanted:
                     continue
@@ -360,11 +356,12 @@ def _merge_windows(positions: list[int], window: int, length: int) -> list[tuple
     return [(a, b) for a, b in ranges]
 
 
-def _batches(order: list[int], ranges, budget: int) -> list[list[int]]:
+def _batches(order: list[int], lengths: list[int], budget: int) -> list[list[int]]:
+    """Group items (in order) so that rows x longest row stays within the token budget."""
     batches: list[list[int]] = []
     current: list[int] = []
     for j in order:
-        width = ranges[j][1] - ranges[j][0]
+        width = max([lengths[j]] + [lengths[k] for k in current])
         if current and width * (len(current) + 1) > budget:
             batches.append(current)
             current = []
@@ -372,6 +369,30 @@ def _batches(order: list[int], ranges, budget: int) -> list[list[int]]:
     if current:
         batches.append(current)
     return batches
+
+
+def _pack(ranges, positions, ids, separator: list[int], row_tokens: int):
+    """Pack windows, in document order, into rows of at most ``row_tokens`` (a window longer
+    than that gets a row of its own), a blank line between windows. Chaining in document order
+    leaks nothing: a key word is scored where it first occurs, so no earlier window holds it."""
+    rows = []
+    cur: list[int] = []
+    scored: list[tuple[int, int]] = []
+    p = 0
+    for a, b in ranges:
+        piece = list(ids[a:b])
+        gap = separator if cur else []
+        if cur and len(cur) + len(gap) + len(piece) > row_tokens:
+            rows.append((tuple(cur), tuple(scored)))
+            cur, scored, gap = [], [], []
+        offset = len(cur) + len(gap)
+        cur.extend(gap + piece)
+        while p < len(positions) and positions[p] < b:
+            scored.append((offset + positions[p] - a, p))
+            p += 1
+    if cur:
+        rows.append((tuple(cur), tuple(scored)))
+    return tuple(rows)
 
 
 def _empty(plan: _Plan, sig: Signature) -> CoverageScore:

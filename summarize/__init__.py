@@ -8,9 +8,9 @@ Heavy libraries load only when a summary is first made.
 """
 
 
-def summarize(source, words=150, **options):
-    """Summarize text (str) or a file (pathlib.Path) to at most ``words`` words; see
-    ``summarize.pipeline.summarize`` for the options."""
+def summarize(source, words=None, **options):
+    """Summarize text (str) or a file (pathlib.Path) to at most ``words`` words (150 unless a
+    ratio or sentence count is given); see ``summarize.pipeline.summarize`` for the options."""
     from summarize.pipeline import summarize as run
 
     return run(source, words, **options)

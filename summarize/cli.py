@@ -9,6 +9,7 @@ import click
 
 from scoring.coverage import CoverageConfig
 from summarize.report import CAUTION
+from summarize.recipes import DEFAULT_CANDIDATES, RECIPES
 
 
 class Failure(click.ClickException):
@@ -51,6 +52,71 @@ def main():
 
     Everything runs on this computer's CPU; no text leaves the machine.
     """
+
+
+@main.command(name="summarize")
+@click.argument("source", type=click.Path(dir_okay=False, allow_dash=True))
+@click.option("--words", type=click.IntRange(min=1), default=None,
+              help="Word budget, a hard maximum (the summary fills at least 95% of it). [default: 150]")
+@click.option("--ratio", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=None,
+              help="Budget as a fraction of the source's words, e.g. 0.05.")
+@click.option("--sentences", type=click.IntRange(min=1), default=None,
+              help="Pick this many whole sentences instead of a word budget (no compression).")
+@click.option("--candidates", type=click.IntRange(1, len(RECIPES)), default=None,
+              help=f"Build and score N candidates and show them ranked on stderr [default: {DEFAULT_CANDIDATES}, not shown].")
+@click.option("--compress/--no-compress", default=True, show_default=True,
+              help="Delete low-value phrases (asides, attributions, examples) to fit more content.")
+@click.option("--json", "as_json", is_flag=True,
+              help="Print JSON: summary, word count, scores, signatures, provenance, deletions, candidates.")
+@click.option("--out", type=click.Path(dir_okay=False), default=None, help="Write the result to this file instead of stdout.")
+@click.option("--any-language", is_flag=True, help="Summarize text that does not look like English.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress messages on stderr.")
+@_fail_on_model_error
+def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json, out, any_language, quiet):
+    """Condense SOURCE (txt, md, html, pdf, docx, or - for stdin) to a word budget.
+
+    \b
+    boildown extracts salient, non-redundant sentences, deletes low-value phrases
+    so the summary fills the budget exactly, builds several candidates that trade
+    coverage, fluency and redundancy differently, scores each, and prints the best.
+
+    \b
+    Examples:
+      boildown summarize report.pdf --words 150
+      boildown summarize minutes.txt --ratio 0.1 --candidates 5
+      boildown summarize brief.md --words 250 --json --out brief.json
+    """
+    from summarize import report
+    from summarize.pipeline import summarize as run
+    from summarize.reading import looks_english, parse_text, read_document
+
+    if sum(x is not None for x in (words, ratio, sentences)) > 1:
+        raise click.UsageError("give only one of --words, --ratio and --sentences")
+    if words is None and ratio is None and sentences is None:
+        words = 150
+    if out:
+        report.check_writable(out)
+    say = _progress(quiet)
+    if source == "-":
+        document = parse_text(click.get_text_stream("stdin").read(), source="stdin")
+    else:
+        document = read_document(source)
+    if not any_language and not looks_english(document.text):
+        raise Failure(f"'{source}' does not look like English text; boildown's models are English-only "
+                      "(pass --any-language to summarize it anyway)")
+    result = run(document, words, ratio=ratio, sentences=sentences, candidates=candidates or DEFAULT_CANDIDATES,
+                 compress=compress, progress=say)
+    if result.notice:
+        click.echo(f"boildown: notice: {result.notice}", err=True)
+    if candidates and result.candidates and not as_json:
+        click.echo(report.table([c for _, c in result.candidates]), err=True)
+    body = report.summary_json(result) if as_json else result.text + "\n"
+    if out:
+        report.write_atomic(out, body)
+        if not quiet:
+            click.echo(f"boildown: wrote {out} ({result.words} words)", err=True)
+    else:
+        click.echo(body, nl=False)
 
 
 @main.command()
@@ -247,6 +313,68 @@ def compare_cmd(source, candidates, references, words, html_path, as_json, any_l
         click.echo(comparing.to_json(result))
     elif not html_path:
         click.echo(comparing.table(result))
+
+
+from summarize import batch as _batch  # noqa: E402  (light: the models load in the workers)
+
+
+@main.command(name="batch")
+@click.argument("input_dir", type=click.Path(exists=True, file_okay=False))
+@click.option("--out", "out_dir", required=True, type=click.Path(file_okay=False),
+              help="Folder for the summaries, manifest.jsonl and manifest.csv (created when missing).")
+@click.option("--words", type=click.IntRange(min=1), default=None,
+              help="Word budget of every summary (a hard maximum).")
+@click.option("--ratio", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=None,
+              help="Budget as a fraction of each document's words, instead of --words.")
+@click.option("--candidates", type=click.IntRange(min=1), default=_batch.BatchConfig.candidates,
+              show_default=True, help="Candidate summaries built and scored per document.")
+@click.option("--include", multiple=True, metavar="GLOB",
+              help=f"Only files matching GLOB; repeatable. Default: {' '.join(_batch.DEFAULT_INCLUDE)}")
+@click.option("--exclude", multiple=True, metavar="GLOB", help="Leave out files and folders matching GLOB; repeatable.")
+@click.option("--workers", type=click.IntRange(min=1), default=None,
+              help=f"Worker processes, each loading the models once [default: the cores, at most "
+                   f"{_batch.MAX_DEFAULT_WORKERS}].")
+@click.option("--force", is_flag=True, help="Summarize documents already done again; new records supersede old ones.")
+@click.option("--engine", type=click.Choice(_batch.ENGINES), default=_batch.BatchConfig.engine, show_default=True,
+              help="local: worker processes on this machine; dask: a Dask cluster (with --scheduler).")
+@click.option("--scheduler", metavar="ADDRESS", default=None,
+              help="The Dask scheduler for --engine dask, e.g. tcp://10.0.0.5:8786.")
+@click.option("--any-language", is_flag=True, help="Summarize text that does not look like English.")
+@click.option("--json", "as_json", is_flag=True, help="Print the final tally as JSON.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress bar or messages on stderr.")
+@click.option("--job", "job_spec", default="summarize", hidden=True)
+@_fail_on_model_error
+def batch_cmd(input_dir, out_dir, words, ratio, candidates, include, exclude, workers, force, engine, scheduler,
+              any_language, as_json, quiet, job_spec):
+    """Summarize every document under INPUT_DIR (recursively) into OUT_DIR.
+
+    \b
+    OUT_DIR gets one summary per document, mirroring its path
+    (sub/report.pdf -> sub/report.summary.txt), manifest.jsonl (one
+    record per document: content hash, settings, summary, scores,
+    timings, or the reason it failed) and manifest.csv (the latest
+    record per document). Run the same command again to resume: documents
+    already done with the same content and settings are skipped.
+    Exits non-zero when any document failed.
+
+    \b
+    Example:
+      boildown batch reports/ --words 150 --out summaries/
+    """
+    config = _batch.BatchConfig(words=words, ratio=ratio, candidates=candidates, include=include, exclude=exclude,
+                                workers=workers, force=force, engine=engine, scheduler=scheduler,
+                                any_language=any_language)
+    try:
+        result = _batch.run_batch(input_dir, out_dir, config, job=_batch.job_from_spec(job_spec),
+                                  progress=_progress(quiet), bar=not quiet)
+    except _batch.BatchInterrupted as stop:
+        click.echo(_batch.tally_text(stop.result))
+        click.echo("boildown: interrupted; run the same command again to resume", err=True)
+        sys.exit(130)
+    click.echo(json.dumps(result.to_dict(), indent=2) if as_json else _batch.tally_text(result))
+    if result.failed:
+        raise Failure(f"{result.failed} of {result.total} document(s) failed; the reasons are above and in "
+                      f"{result.manifest}")
 
 
 if __name__ == "__main__":

@@ -16,34 +16,9 @@ as in their Algorithm 1. Sentences come back in document order.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
-
-@dataclass(frozen=True)
-class ExtractConfig:
-    """One way to weigh and pick sentences; the candidate search varies these."""
-
-    embed_weight: float = 0.7  # share of MiniLM cosine in the similarity (rest tf-idf)
-    damping: float = 0.85
-    lead_weight: float = 0.3  # prior for the opening of the document and of each section
-    end_weight: float = 0.1  # prior for the closing tenth (conclusions)
-    section_weight: float = 0.2  # prior for sections whose heading promises a summary
-    alpha: float = 0.15
-    diversity: float = 6.0
-    cluster_share: float = 0.2  # clusters = this share of the sentences
-    scale_power: float = 0.3
-    min_words: int = 5  # shorter sentences (headings, fragments) are not picked
-    max_words: int = 80
-
-    def __post_init__(self):
-        if not 0 <= self.embed_weight <= 1:
-            raise ValueError(f"embed_weight must lie in [0, 1], got {self.embed_weight}")
-        if not 0 < self.damping < 1:
-            raise ValueError(f"damping must lie in (0, 1), got {self.damping}")
-        if self.alpha <= 0 or self.cluster_share <= 0:
-            raise ValueError("alpha and cluster_share must be positive")
+from summarize.recipes import ExtractConfig
 
 
 SUMMARY_HEADINGS = ("abstract", "summary", "introduction", "conclusion", "conclusions", "overview",

@@ -9,11 +9,14 @@ from __future__ import annotations
 
 import math
 import os
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Callable
 
-from summarize.search import RECIPES, Draft, SummarySentence
+from summarize.recipes import RECIPES
+
+DEFAULT_WORDS = 150
+from summarize.search import Draft, SummarySentence
 
 
 @dataclass(frozen=True)
@@ -75,6 +78,8 @@ def load(source) -> object:
     """A reading.Document from text or a path."""
     from summarize.reading import parse_text, read_document
 
+    if hasattr(source, "blocks") and hasattr(source, "word_count"):
+        return source  # already a reading.Document
     if isinstance(source, os.PathLike):
         return read_document(Path(source))
     if not isinstance(source, str):
@@ -98,7 +103,7 @@ def budget_for(source_words: int, words: int | None, ratio: float | None) -> int
 
 def summarize(
     source,
-    words: int | None = 150,
+    words: int | None = None,
     *,
     ratio: float | None = None,
     sentences: int | None = None,
@@ -108,15 +113,17 @@ def summarize(
     progress: Callable[[str], None] | None = None,
     evaluator=None,
 ) -> Summary:
-    """Summarize text or a file to a word budget (a hard maximum) and score the candidates."""
+    """Summarize text (str), a file (pathlib.Path) or a reading.Document to a word budget (a
+    hard maximum; 150 words when no budget, ratio or sentence count is given), build up to
+    ``candidates`` candidates, score them and return the best with the ranked alternatives."""
     from scoring.evaluate import default_evaluator
     from summarize.search import analyse, build, by_sentences, distinct
 
     say = progress or (lambda _m: None)
     document = load(source)
     total = document.word_count
-    if ratio is not None or sentences is not None:
-        words = None if words == 150 else words
+    if words is None and ratio is None and sentences is None:
+        words = DEFAULT_WORDS
     settings = {"words": words, "ratio": ratio, "sentences": sentences, "candidates": candidates, "compress": compress}
     evaluator = evaluator or default_evaluator()
     if sentences is not None:
@@ -137,9 +144,9 @@ def summarize(
                            f"budget of {budget}: it is returned whole", settings)
         say(f"reading {total} words into sentences")
         analysis = analyse(document, evaluator.coverage.config.keywords, say)
-        recipes = [r for r in RECIPES if compress or r.compress == 0 or True][: max(1, candidates)]
+        recipes = list(RECIPES[: max(1, candidates)])
         if not compress:
-            recipes = [r.__class__(**{**r.__dict__, "compress": 0.0}) for r in recipes]
+            recipes = [replace(r, compress=0.0) for r in recipes]
         drafts = []
         for n, recipe in enumerate(recipes, 1):
             say(f"building candidate {n}/{len(recipes)} ({recipe.name})")

@@ -23,34 +23,9 @@ from typing import Callable
 import numpy as np
 
 from summarize.compress import Deletion
-from summarize.extract import ExtractConfig
+from summarize.recipes import RECIPES, ExtractConfig, Recipe  # noqa: F401 (re-exported)
 
 FILL_TARGET = 0.95
-
-
-@dataclass(frozen=True)
-class Recipe:
-    """One way to build a candidate."""
-
-    name: str
-    extract: ExtractConfig = field(default_factory=ExtractConfig)
-    method: str = "submodular"  # or "mmr"
-    compress: float = 0.6  # deletion threshold: key-word and fluency cost per word saved; 0 = off
-    sections: bool = False  # share the budget across sections by salience
-
-
-RECIPES: tuple[Recipe, ...] = (
-    Recipe("balanced"),
-    Recipe("opening-and-close", ExtractConfig(lead_weight=1.0, end_weight=0.4, section_weight=0.4)),
-    Recipe("central", ExtractConfig(lead_weight=0.0, end_weight=0.0, section_weight=0.0)),
-    Recipe("diverse", ExtractConfig(diversity=14.0, alpha=0.08)),
-    Recipe("by-section", sections=True),
-    Recipe("lexical", ExtractConfig(embed_weight=0.0)),
-    Recipe("tight", compress=1.2),
-    Recipe("mmr", method="mmr"),
-    Recipe("uncompressed", compress=0.0),
-    Recipe("semantic", ExtractConfig(embed_weight=1.0, lead_weight=0.5)),
-)
 
 
 @dataclass(frozen=True)
@@ -315,40 +290,48 @@ def _fill(a: Analysis, chosen: list[int], texts: dict[int, str], dropped: dict[i
             current[i], text_of[i] = keep, new
             used += delta
     # 2. still short: add the best sentence that fits (compressed form if we have it)
+    order = [int(j) for j in np.argsort(-salience)]
+    order = [j for j in order if a.complete[j]] + [j for j in order if not a.complete[j]]
     if used < FILL_TARGET * budget:
-        order = np.argsort(-salience)
         for j in order:
-            j = int(j)
-            if j in text_of:
+            if j in text_of or not eligible[j]:
                 continue
             form = texts.get(j, a.texts[j])
-            if used + len(form.split()) <= budget and eligible[j]:
+            if used + len(form.split()) <= budget:
                 text_of[j] = form
                 current[j] = list(dropped.get(j, []))
                 used += len(form.split())
                 if used >= FILL_TARGET * budget:
                     break
     cut = None
-    # 3. last resort: the best remaining sentence cut at a word boundary
+    # 3. last resort: the best remaining full sentence, cut after a clause (or a word) to fit
     if used < FILL_TARGET * budget:
         room = budget - used
-        order = np.argsort(-salience)
         for j in order:
-            j = int(j)
             if j in text_of:
                 continue
             form = texts.get(j, a.texts[j]).split()
             if len(form) > room:
-                text_of[j] = " ".join(form[:room]).rstrip(",;:") + "…"
+                text_of[j] = _cut(form, room)
                 current[j] = list(dropped.get(j, []))
                 cut = j
-                used += room
+                used += len(text_of[j].split())
                 break
     sentences = tuple(
         SummarySentence(text_of[i], a.sentences[i].index, tuple(d.text.strip(" ,") for d in current.get(i, [])), i == cut)
         for i in sorted(text_of)
     )
     return Draft("", sentences)
+
+
+def _cut(words: list[str], room: int) -> str:
+    """The first ``room`` words, ending after the last clause mark if that keeps 60% of them."""
+    head = words[:room]
+    for k in range(len(head) - 1, int(0.6 * room) - 1, -1):
+        if head[k].endswith((",", ";", ":")):
+            head = head[: k + 1]
+            break
+    return " ".join(head).rstrip(",;:") + "…"
 
 
 def by_sentences(analysis: Analysis, n: int) -> Draft:

@@ -1,0 +1,60 @@
+"""Recipes: the settings that make each candidate summary different (no heavy imports, so the
+command line can read them for its help text)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+DEFAULT_CANDIDATES = 8
+
+
+@dataclass(frozen=True)
+class ExtractConfig:
+    """One way to weigh and pick sentences; the candidate search varies these."""
+
+    embed_weight: float = 0.7  # share of MiniLM cosine in the similarity (rest tf-idf)
+    damping: float = 0.85
+    lead_weight: float = 0.3  # prior for the opening of the document and of each section
+    end_weight: float = 0.1  # prior for the closing tenth (conclusions)
+    section_weight: float = 0.2  # prior for sections whose heading promises a summary
+    alpha: float = 0.15
+    diversity: float = 6.0
+    cluster_share: float = 0.2  # clusters = this share of the sentences
+    scale_power: float = 0.3
+    min_words: int = 5  # shorter sentences (headings, fragments) are not picked
+    max_words: int = 80
+
+    def __post_init__(self):
+        if not 0 <= self.embed_weight <= 1:
+            raise ValueError(f"embed_weight must lie in [0, 1], got {self.embed_weight}")
+        if not 0 < self.damping < 1:
+            raise ValueError(f"damping must lie in (0, 1), got {self.damping}")
+        if self.alpha <= 0 or self.cluster_share <= 0:
+            raise ValueError("alpha and cluster_share must be positive")
+
+
+@dataclass(frozen=True)
+class Recipe:
+    """One way to build a candidate."""
+
+    name: str
+    extract: ExtractConfig = field(default_factory=ExtractConfig)
+    method: str = "submodular"  # or "mmr"
+    compress: float = 0.6  # deletion threshold: key-word and fluency cost per word saved; 0 = off
+    sections: bool = False  # share the budget across sections by salience
+
+
+RECIPES: tuple[Recipe, ...] = (
+    Recipe("balanced"),
+    Recipe("opening-and-close", ExtractConfig(lead_weight=1.0, end_weight=0.4, section_weight=0.4)),
+    Recipe("central", ExtractConfig(lead_weight=0.0, end_weight=0.0, section_weight=0.0)),
+    Recipe("diverse", ExtractConfig(diversity=14.0, alpha=0.08)),
+    Recipe("by-section", sections=True),
+    Recipe("lexical", ExtractConfig(embed_weight=0.0)),
+    Recipe("tight", compress=1.2),
+    Recipe("mmr", method="mmr"),
+    Recipe("uncompressed", compress=0.0),
+    Recipe("semantic", ExtractConfig(embed_weight=1.0, lead_weight=0.5)),
+)
+
+
