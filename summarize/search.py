@@ -327,7 +327,9 @@ def _fill(a: Analysis, chosen: list[int], texts: dict[int, str], dropped: dict[i
 def _cut(words: list[str], room: int) -> str:
     """The first ``room`` words, ending after the last clause mark if that keeps 60% of them."""
     head = words[:room]
-    for k in range(len(head) - 1, int(0.6 * room) - 1, -1):
+    for k in range(len(head) - 1, -1, -1):
+        if k + 1 < 0.6 * room:
+            break
         if head[k].endswith((",", ";", ":")):
             head = head[: k + 1]
             break

@@ -1,0 +1,193 @@
+"""Summary quality against human references, with the baselines measured in the same run.
+
+1. SQuALITY test (52 stories, budget = the mean length of their 4 human plot summaries,
+   Project Gutenberg production notes removed) and LongSciVerify (30 papers, budget = the
+   abstract's length; the paper is given with its section headings): ROUGE-1/2/Lsum F1 x 100
+   (rouge-score, stemming on, best of the references) of boildown against LEAD, TextRank and
+   LexRank (bench/baselines.py, written from their papers) and the greedy ROUGE oracle; plus
+   boildown's coverage and fluency of every system's output.
+2. Ranking agreement on SQuALITY dev (25 stories): boildown's candidates plus LEAD and TextRank
+   at the same budget, ranked by boildown's combined score and by ROUGE-2 F1 against the human
+   summaries; the mean Kendall tau over stories.
+3. Compression on vs off: the "balanced" recipe at the same budget with and without deletions.
+
+    .venv/bin/python bench/quality.py [--limit N] [--parts main,ranking,compression]
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import re
+import statistics
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from bench import data  # noqa: E402
+from bench.baselines import lead, lexrank, oracle, textrank  # noqa: E402
+from bench.common import RESULTS, kendall, save  # noqa: E402
+from bench.reproduce_baselines import rouge_table  # noqa: E402
+
+
+def document_of(example):
+    """The text boildown reads: LongSciVerify papers with their section headings (markdown)."""
+    from summarize.reading import parse_text
+
+    sections = example.meta.get("sections")
+    if sections:
+        parts = []
+        for name, text in sections:
+            parts.append(f"## {name.strip() or 'section'}")
+            parts.extend(p for p in re.split(r"(?<= [.?!]) (?=\S)", text) if p.strip())
+        return parse_text("\n\n".join(parts), "md")
+    return parse_text(example.source_text, "txt")
+
+
+def lines(summary_sentences) -> str:
+    return "\n".join(summary_sentences)
+
+
+def run_main(examples, name: str, evaluator, candidates: int):
+    from summarize.pipeline import summarize
+
+    outputs = {k: [] for k in ("lead", "textrank", "lexrank", "oracle", "boildown")}
+    coverage = {k: [] for k in outputs}
+    fluency = {k: [] for k in outputs}
+    timings = []
+    for n, ex in enumerate(examples, 1):
+        doc = document_of(ex)
+        start = time.perf_counter()
+        result = summarize(doc, ex.budget_words, candidates=candidates, evaluator=evaluator)
+        timings.append(time.perf_counter() - start)
+        outputs["boildown"].append(lines(s.text for s in result.sentences) or result.text)
+        outputs["lead"].append(lead(ex.source_text, ex.budget_words))
+        outputs["textrank"].append(textrank(ex.source_text, ex.budget_words))
+        outputs["lexrank"].append(lexrank(ex.source_text, ex.budget_words))
+        outputs["oracle"].append(oracle(ex.source_text, ex.budget_words, ex.references))
+        names = list(outputs)
+        scored = evaluator.evaluate([(k, " ".join(outputs[k][-1].split())) for k in names], source=doc.text,
+                                    budget=ex.budget_words)
+        by = {c.name: c for c in scored}
+        for k in names:
+            coverage[k].append(by[k].coverage.share)
+            fluency[k].append(by[k].fluency.value)
+        print(f"\r{name}: {n}/{len(examples)} documents, median {statistics.median(timings):.1f} s per summary",
+              end="", file=sys.stderr)
+    print(file=sys.stderr)
+    table = rouge_table(outputs, examples)
+    for k in outputs:
+        table[k]["coverage"] = 100 * statistics.mean(coverage[k])
+        table[k]["fluency"] = statistics.mean(fluency[k])
+        table[k]["per_example_coverage"] = coverage[k]
+    best = max(("lead", "textrank", "lexrank"), key=lambda k: table[k]["rouge2"])
+    gap = {t: (table["boildown"][t] - table[best][t]) / max(1e-9, table["oracle"][t] - table[best][t])
+           for t in ("rouge1", "rouge2", "rougeLsum")}
+    return {"table": table, "best_baseline": best, "share_of_gap_closed": gap,
+            "median_seconds": statistics.median(timings), "mean_budget": statistics.mean(e.budget_words for e in examples)}
+
+
+def run_ranking(evaluator, candidates: int, limit: int | None):
+    from rouge_score.rouge_scorer import RougeScorer
+
+    from summarize.pipeline import summarize
+    from summarize.segment import split_sentences
+
+    rouge = RougeScorer(["rouge2"], use_stemmer=True)
+    stories = data.squality("dev")[:limit]
+    taus = []
+    for n, ex in enumerate(stories, 1):
+        doc = document_of(ex)
+        result = summarize(doc, ex.budget_words, candidates=candidates, evaluator=evaluator)
+        pool = [(f"boildown:{d.recipe}", d.text) for d, _ in result.candidates]
+        pool += [("lead", " ".join(lead(ex.source_text, ex.budget_words).split())),
+                 ("textrank", " ".join(textrank(ex.source_text, ex.budget_words).split()))]
+        ranked = evaluator.evaluate(pool, source=doc.text, budget=ex.budget_words)
+        refs = ["\n".join(split_sentences(r)) for r in ex.references]
+        ours = [c.combined for c in ranked]
+        theirs = [rouge.score_multi(refs, c.text)["rouge2"].fmeasure for c in ranked]
+        tau = kendall(ours, theirs)
+        if tau == tau:
+            taus.append(tau)
+        print(f"\rranking: {n}/{len(stories)} stories, mean tau {statistics.mean(taus) if taus else float('nan'):.3f}",
+              end="", file=sys.stderr)
+    print(file=sys.stderr)
+    return {"stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus}
+
+
+def run_compression(examples, evaluator):
+    from summarize.recipes import RECIPES
+    from summarize.search import analyse, build
+
+    on_cov, off_cov, on_flu, off_flu = [], [], [], []
+    balanced = RECIPES[0]
+    from dataclasses import replace
+
+    for ex in examples:
+        doc = document_of(ex)
+        analysis = analyse(doc)
+        on = build(analysis, balanced, ex.budget_words)
+        off = build(analysis, replace(balanced, compress=0.0), ex.budget_words)
+        scored = {c.name: c for c in evaluator.evaluate([("on", on.text), ("off", off.text)], source=doc.text,
+                                                         budget=ex.budget_words)}
+        on_cov.append(scored["on"].coverage.share)
+        off_cov.append(scored["off"].coverage.share)
+        on_flu.append(scored["on"].fluency.value)
+        off_flu.append(scored["off"].fluency.value)
+    wins = sum(a > b for a, b in zip(on_cov, off_cov))
+    ties = sum(a == b for a, b in zip(on_cov, off_cov))
+    return {"documents": len(on_cov), "coverage_on": 100 * statistics.mean(on_cov), "coverage_off": 100 * statistics.mean(off_cov),
+            "coverage_higher_with_compression": wins, "identical": ties,
+            "fluency_on": statistics.mean(on_flu), "fluency_off": statistics.mean(off_flu)}
+
+
+def main(argv=None):
+    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--limit", type=int, default=None, help="first N documents of each set")
+    parser.add_argument("--parts", default="main,ranking,compression")
+    parser.add_argument("--candidates", type=int, default=8)
+    args = parser.parse_args(argv)
+    from scoring.evaluate import default_evaluator
+
+    evaluator = default_evaluator()
+    parts = set(args.parts.split(","))
+    try:
+        squality_test = data.squality("test")[: args.limit]
+        papers = data.longsciverify()[: args.limit]
+    except data.DataMissing as exc:
+        print(f"skipped: {exc}")
+        return
+    results = {}
+    previous = RESULTS / "quality.json"
+    if previous.exists():
+        results = json.loads(previous.read_text()).get("results", {})
+    if "main" in parts:
+        for name, examples in (("squality_test", squality_test), ("longsciverify", papers)):
+            results[name] = run_main(examples, name, evaluator, args.candidates)
+            block = results[name]
+            print(f"\n{name}: {len(examples)} documents, mean budget {block['mean_budget']:.0f} words")
+            print(f"{'system':10s} {'R-1':>6s} {'R-2':>6s} {'R-Lsum':>7s} {'coverage':>9s} {'fluency':>8s} {'words':>6s}")
+            for k, row in block["table"].items():
+                print(f"{k:10s} {row['rouge1']:6.2f} {row['rouge2']:6.2f} {row['rougeLsum']:7.2f} "
+                      f"{row['coverage']:8.1f}% {row['fluency']:8.3f} {row['words']:6.0f}")
+            gap = block["share_of_gap_closed"]
+            print(f"share of the gap from {block['best_baseline']} to the oracle closed: "
+                  + ", ".join(f"{t} {100 * v:.0f}%" for t, v in gap.items()))
+    if "ranking" in parts:
+        results["ranking_squality_dev"] = run_ranking(evaluator, args.candidates, args.limit)
+        print(f"\nranking agreement (SQuALITY dev): mean Kendall tau {results['ranking_squality_dev']['mean_kendall_tau']:.3f}")
+    if "compression" in parts:
+        results["compression"] = {
+            "squality_test": run_compression(squality_test, evaluator),
+            "longsciverify": run_compression(papers, evaluator),
+        }
+        for k, v in results["compression"].items():
+            print(f"\ncompression on vs off, {k}: coverage {v['coverage_on']:.1f}% vs {v['coverage_off']:.1f}% "
+                  f"(higher on {v['coverage_higher_with_compression']}/{v['documents']}), fluency {v['fluency_on']:.3f} vs {v['fluency_off']:.3f}")
+    path = save("quality", {"limit": args.limit, "candidates": args.candidates, "results": results})
+    print(f"written {path}")
+
+
+if __name__ == "__main__":
+    main()

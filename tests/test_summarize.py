@@ -1,0 +1,215 @@
+"""The summarizer: the word budget as a hard maximum filled to 95%, provenance, the command."""
+
+from __future__ import annotations
+
+import json
+import random
+from pathlib import Path
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from conftest import DEMO
+from summarize.cli import main
+from summarize.compress import Deletion, apply
+from summarize.extract import clusters, pagerank, select
+from summarize.pipeline import budget_for
+from summarize.recipes import ExtractConfig, RECIPES
+from summarize.search import FILL_TARGET, _complete, _cut, analyse, build
+from summarize.segment import count_words
+
+BUDGETS = (50, 100, 150, 250, 400)
+DEMO_DOCS = sorted(p for p in DEMO.glob("*") if p.suffix in (".txt", ".md", ".html") and "abstract" not in p.name
+                   and p.name != "README.md")
+
+
+# ---------------------------------------------------------------- fast tier
+
+
+def test_word_count_is_wc_w():
+    # the one counting rule: whitespace tokens, what `wc -w` prints
+    assert count_words("  The board met.\n\nIt approved\tthe plan — in full. ") == 10  # `wc -w` prints 10
+
+
+@pytest.mark.parametrize("words, room, expected", [
+    ("The board met on Monday, and it approved the plan for the works.", 10, "The board met on Monday, and it approved the plan…"),
+    ("One two three, four five six seven eight nine ten eleven.", 10, "One two three, four five six seven eight nine ten…"),
+    ("One two three four five six, seven eight nine ten eleven.", 10, "One two three four five six…"),
+])
+def test_cut_keeps_a_clause_when_it_can(words, room, expected):
+    out = _cut(words.split(), room)
+    assert out == expected and count_words(out) <= room
+
+
+@pytest.mark.parametrize("text, ok", [
+    ("The board approved the plan.", True), ("Summary of key findings", False), ("Lead: 7", False),
+    ("HOW WE MONITOR WATER.", False), ('He said "stop."', True),
+])
+def test_complete_sentence_rule(text, ok):
+    assert _complete(text) is ok
+
+
+@pytest.mark.parametrize("text, spans, expected", [
+    ("However, the board approved the plan.", [(0, 9)], "The board approved the plan."),
+    ("Dr. Vell, the engineer, said yes.", [(8, 23)], "Dr. Vell said yes."),
+    ("Storage fell (to 48%) in May.", [(12, 21)], "Storage fell in May."),
+])
+def test_apply_tidies_spaces_commas_and_capitals(text, spans, expected):
+    dels = [Deletion(0, a, b, "x", text[a:b]) for a, b in spans]
+    assert apply(text, dels) == expected
+
+
+def test_budget_for():
+    assert budget_for(1000, 150, None) == 150
+    assert budget_for(1000, None, 0.1) == 100
+    for args in [(1000, 150, 0.1), (1000, None, 1.5), (1000, None, None), (1000, 0, None)]:
+        with pytest.raises(ValueError):
+            budget_for(*args)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(2, 40), st.integers(1, 300), st.integers(0, 10_000))
+def test_submodular_selection_never_exceeds_the_budget(n, budget, seed):
+    rng = np.random.default_rng(seed)
+    vectors = rng.normal(size=(n, 8))
+    vectors /= np.linalg.norm(vectors, axis=1, keepdims=True)
+    sim = np.clip(vectors @ vectors.T, 0, None)
+    np.fill_diagonal(sim, 0)
+    costs = rng.integers(1, 60, size=n)
+    salience = pagerank(sim)
+    chosen = select(sim, salience, costs, budget, clusters(vectors, max(1, n // 5)), ExtractConfig())
+    assert costs[chosen].sum() <= budget
+    assert chosen == sorted(chosen)
+
+
+def test_pagerank_symmetric_triangle_is_uniform():
+    # Brin & Page (1998): a symmetric graph where every node has the same degree has the uniform
+    # stationary distribution.
+    w = np.ones((3, 3)) - np.eye(3)
+    assert np.allclose(pagerank(w), [1 / 3] * 3)
+
+
+# ---------------------------------------------------------------- model tier
+
+
+def _check_draft(draft, budget, source_words):
+    assert draft.words <= budget, f"{draft.recipe}: {draft.words} words for a budget of {budget}"
+    if source_words > budget:
+        assert draft.words >= FILL_TARGET * budget, f"{draft.recipe}: only {draft.words}/{budget} words"
+    assert count_words(draft.text) == draft.words
+
+
+@pytest.mark.models
+@pytest.mark.parametrize("path", DEMO_DOCS, ids=lambda p: p.name)
+def test_budget_on_demo_documents(path):
+    from summarize.reading import read_document
+
+    document = read_document(path)
+    analysis = analyse(document)
+    for budget in BUDGETS:
+        if budget >= document.word_count:
+            continue
+        for recipe in (RECIPES[0], RECIPES[4], RECIPES[8]):  # balanced, by-section, uncompressed
+            draft = build(analysis, recipe, budget)
+            _check_draft(draft, budget, document.word_count)
+            for s in draft.sentences:  # provenance: every sentence comes from its source sentence
+                source = analysis.texts[s.source]
+                assert s.cut or all(w in source.split() for w in s.text.rstrip(".").split()[:3])
+
+
+def _shared_slice(n: int):
+    import sys
+
+    from conftest import shared_data
+
+    shared_data("squality", "dev.jsonl")
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+    from bench.data import longsciverify, squality
+
+    return squality("dev")[: n // 2] + longsciverify()[: n - n // 2]
+
+
+@pytest.mark.models
+def test_budget_on_a_slice_of_external_documents():
+    # a slice of the external data (SQuALITY dev stories, LongSciVerify papers); the full 100
+    # documents x 5 budgets run in bench/budget_check.py
+    from summarize.reading import parse_text
+
+    for example in _shared_slice(6):
+        document = parse_text(example.source_text)
+        analysis = analyse(document)
+        for budget in BUDGETS:
+            _check_draft(build(analysis, RECIPES[0], budget), budget, document.word_count)
+
+
+def _generated_text(seed: int, sentences: int, long_ones: bool) -> str:
+    rng = random.Random(seed)
+    nouns = "board reservoir works pipe valve storage rainfall leak crew report plan town river filter".split()
+    verbs = "approved inspected replaced reported measured repaired reviewed closed opened tested".split()
+    out = []
+    for _ in range(sentences):
+        n = rng.randint(25, 70) if long_ones and rng.random() < 0.5 else rng.randint(4, 22)
+        words = [rng.choice(nouns) if k % 3 else rng.choice(verbs) for k in range(n)]
+        words[0] = "The " + words[0]
+        out.append(" ".join(words) + ".")
+    return " ".join(out)
+
+
+@pytest.mark.models
+@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.integers(0, 10**6), st.integers(3, 60), st.booleans(), st.sampled_from(BUDGETS))
+def test_budget_property_on_generated_texts(seed, sentences, long_ones, budget):
+    from summarize.reading import parse_text
+
+    document = parse_text(_generated_text(seed, sentences, long_ones))
+    analysis = analyse(document)
+    _check_draft(build(analysis, RECIPES[0], budget), budget, document.word_count)
+
+
+@pytest.mark.models
+def test_summarize_command_plain_and_json(tmp_path):
+    runner = CliRunner()
+    doc = str(DEMO / "board_minutes_march.txt")
+    result = runner.invoke(main, ["summarize", doc, "--words", "100", "--candidates", "2", "-q"])
+    assert result.exit_code == 0, result.output
+    assert 95 <= count_words(result.stdout) <= 100
+    out = tmp_path / "s.json"
+    result = runner.invoke(main, ["summarize", doc, "--words", "100", "--candidates", "2", "--json", "--out", str(out), "-q"])
+    assert result.exit_code == 0, result.output
+    data = json.loads(out.read_text())
+    assert data["words"] == count_words(data["summary"]) <= 100
+    assert data["scores"]["signatures"]["coverage"]["name"] == "coverage"
+    assert all(isinstance(s["source_sentence"], int) for s in data["sentences"])
+    assert len(data["candidates"]) >= 1
+
+
+@pytest.mark.models
+def test_short_source_comes_back_whole_with_a_notice():
+    runner = CliRunner()
+    result = runner.invoke(main, ["summarize", str(DEMO / "drought_brief.md"), "--words", "2000", "-q"])
+    assert result.exit_code == 0
+    assert "returned whole" in result.stderr
+    assert count_words(result.stdout) == count_words(result.stdout)
+
+
+@pytest.mark.parametrize("content, message", [
+    (b"", "is empty"),
+    (b"\x00\x01\x02binary\x00" * 50, "binary"),
+    ("Le conseil a approuvé le plan de renouvellement des conduites et la station sera fermée en mars. " * 5,
+     "does not look like English"),
+])
+def test_summarize_bad_input_is_one_clear_line(tmp_path, content, message):
+    path = tmp_path / "input.txt"
+    path.write_bytes(content if isinstance(content, bytes) else content.encode())
+    result = CliRunner().invoke(main, ["summarize", str(path), "--words", "50"])
+    assert result.exit_code != 0
+    assert message in result.stderr and "Traceback" not in result.output
+    assert len(result.stderr.strip().splitlines()) == 1
+
+
+def test_summarize_rejects_two_budgets():
+    result = CliRunner().invoke(main, ["summarize", str(DEMO / "drought_brief.md"), "--words", "50", "--ratio", "0.1"])
+    assert result.exit_code == 2 and "only one of" in result.output
