@@ -102,7 +102,7 @@ class BatchConfig:
 
     words: int | None = None
     ratio: float | None = None
-    candidates: int = 3
+    candidates: int = 3  # fewer than `summarize`'s 8: a batch trades a little quality for speed
     include: tuple[str, ...] = DEFAULT_INCLUDE
     exclude: tuple[str, ...] = ()
     workers: int | None = None
@@ -123,8 +123,11 @@ class BatchConfig:
             raise BatchError(f"the word budget must be a whole number of at least 1, got {self.words!r}")
         if self.ratio is not None and not 0 < self.ratio < 1:
             raise BatchError(f"the ratio must lie between 0 and 1 (a fraction of each document), got {self.ratio}")
-        if not isinstance(self.candidates, int) or self.candidates < 1:
-            raise BatchError(f"candidates must be at least 1, got {self.candidates!r}")
+        from summarize.recipes import RECIPES
+
+        if not isinstance(self.candidates, int) or not 1 <= self.candidates <= len(RECIPES):
+            raise BatchError(f"--candidates must lie between 1 and {len(RECIPES)} (one per recipe), "
+                             f"got {self.candidates!r}")
         if self.workers is not None and (not isinstance(self.workers, int) or self.workers < 1):
             raise BatchError(f"workers must be at least 1, got {self.workers!r}")
         if self.engine not in ENGINES:
@@ -224,10 +227,10 @@ class SummarizeJob:
             load()
         default_evaluator()
 
-    def __call__(self, path: Path, settings: dict) -> dict:
+    def __call__(self, document, settings: dict) -> dict:
         from summarize.pipeline import summarize
 
-        summary = summarize(path, settings["words"], ratio=settings["ratio"], candidates=settings["candidates"])
+        summary = summarize(document, settings["words"], ratio=settings["ratio"], candidates=settings["candidates"])
         scores = signatures = None
         if summary.scores is not None:
             found = summary.to_dict(with_candidates=False)["scores"]
@@ -259,10 +262,10 @@ class LeadJob:
     def prepare(self, threads: int | None) -> None:
         pass
 
-    def __call__(self, path: Path, settings: dict) -> dict:
+    def __call__(self, document, settings: dict) -> dict:
         from summarize.pipeline import budget_for
 
-        tokens = reading.read_document(path).text.split()
+        tokens = document.text.split()
         budget = budget_for(len(tokens), settings["words"], settings["ratio"])
         if self.delay:
             time.sleep(self.delay)
@@ -798,7 +801,7 @@ def process_task(task: dict, job) -> dict:
             if problem:
                 outcome["error"] = problem
                 return outcome
-            outcome["result"] = job(path, task["settings"])
+            outcome["result"] = job(document, task["settings"])
             outcome["timings"]["summarize_s"] = round(time.perf_counter() - read_at, 4)
     except reading.ReadError as exc:
         message = str(exc)
@@ -990,8 +993,9 @@ def run_batch(input_dir, out_dir, config: BatchConfig | None = None, *, job=None
     """Summarize every document under ``input_dir`` into ``out_dir``; see the module docstring.
 
     ``config`` or keyword options (``words=150``, ``candidates=3``, ...) give a BatchConfig;
-    ``job`` replaces the summarizer (a picklable callable ``job(path, settings) -> dict`` with
-    ``name``, ``check()`` and ``prepare(threads)``, e.g. ``LeadJob``); ``progress`` receives
+    ``job`` replaces the summarizer (a picklable callable ``job(document, settings) -> dict``
+    taking a reading.Document, with ``name``, ``check()`` and ``prepare(threads)``, e.g.
+    ``LeadJob``); ``progress`` receives
     one-line messages; ``bar`` shows a progress bar on stderr. Raises BatchError when the run
     cannot start (bad folders, the lock held, Dask missing) and BatchInterrupted on Ctrl-C or
     SIGTERM, after recording everything finished so far.
