@@ -109,7 +109,9 @@ def _comma_span(doc, token, kind: str, require_wh: bool = False, allow_start: bo
     if before is not None and before.text == ",":
         start = before.idx
         if after is not None and after.text == ",":
-            return {(start, after.idx + 1, kind)}
+            closing = right + 2 < len(doc) and doc[right + 2].text in ('"', "\u201d", "'", "''")
+            # keep the comma that ends quoted speech: "My name is Whonk, fleet one," he said.
+            return {(start, after.idx if closing else after.idx + 1, kind)}
         if after is None or after.is_punct and after.text in ".;:!?":
             return {(start, doc[right].idx + len(doc[right].text), kind)}
         return set()

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Callable
 
-from summarize.recipes import RECIPES
+from summarize.recipes import RECIPES, variants
 
 DEFAULT_WORDS = 150
 from summarize.search import Draft, SummarySentence
@@ -144,7 +144,8 @@ def summarize(
                            f"budget of {budget}: it is returned whole", settings)
         say(f"reading {total} words into sentences")
         analysis = analyse(document, evaluator.coverage.config.keywords, say)
-        recipes = list(RECIPES[: max(1, candidates)])
+        wanted = max(1, candidates)
+        recipes = list(RECIPES[:wanted])
         if not compress:
             recipes = [replace(r, compress=0.0) for r in recipes]
         drafts = []
@@ -152,6 +153,16 @@ def summarize(
             say(f"building candidate {n}/{len(recipes)} ({recipe.name})")
             drafts.append(build(analysis, recipe, budget))
         drafts = distinct(drafts)
+        extra = variants()
+        for _ in range(3 * wanted):
+            if len(drafts) >= wanted:
+                break
+            recipe = next(extra, None)
+            if recipe is None:
+                break
+            if not compress:
+                recipe = replace(recipe, compress=0.0)
+            drafts = distinct(drafts + [build(analysis, recipe, budget)])
     say(f"scoring {len(drafts)} candidate(s)")
     ranked = evaluator.evaluate([(d.recipe, d.text) for d in drafts], source=document.text,
                                 references=references, budget=budget, progress=say)

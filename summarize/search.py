@@ -17,6 +17,7 @@ Every candidate is then scored by ``scoring.evaluate`` and the best is returned.
 from __future__ import annotations
 
 import functools
+import re
 from dataclasses import dataclass, field, replace
 from typing import Callable
 
@@ -60,6 +61,7 @@ class Analysis:
     texts: list[str]
     costs: np.ndarray
     complete: np.ndarray  # ends like a sentence (not a heading, contents line or table cell)
+    quoted: np.ndarray  # mostly quoted speech (dialogue)
     vectors: np.ndarray
     tfidf: np.ndarray
     headings: dict[int, str]
@@ -98,7 +100,20 @@ def analyse(document, keywords: int = 40, progress: Callable[[str], None] | None
     salience = {k.lemma: k.salience / top for k in kwset.keywords}
     costs = np.array([max(1, len(t.split())) for t in texts])
     complete = np.array([_complete(t) for t in texts], dtype=bool)
-    return Analysis(sentences, texts, costs, complete, vectors, tfidf(texts), headings, section, salience)
+    quoted = np.array([_quoted(t) for t in texts], dtype=bool)
+    return Analysis(sentences, texts, costs, complete, quoted, vectors, tfidf(texts), headings, section, salience)
+
+
+_QUOTE = re.compile(r"[\"\u201c\u201d]")
+
+
+def _quoted(text: str) -> bool:
+    """Mostly quoted speech: opens or closes a quotation, or half its words sit inside quotes."""
+    t = text.strip()
+    if t[:1] in ('"', "\u201c") or t.rstrip(".")[-1:] in ('"', "\u201d"):
+        return True
+    inside = sum(len(m.split()) for m in re.findall(r"[\"\u201c]([^\"\u201d]*)[\"\u201d]", t))
+    return inside * 2 >= max(1, len(t.split()))
 
 
 _ENDINGS = (".", "!", "?", '."', '?"', '!"', ".\u201d", ".)", ".'")
@@ -122,7 +137,7 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
     if a.costs[eligible].sum() < budget:  # too few full sentences (e.g. unpunctuated text)
         eligible = sized if a.costs[sized].sum() >= budget else a.costs >= 1
     prior = priors(a.sentences, a.n_sections, a.headings, cfg)
-    salience = pagerank(sim, cfg.damping) * prior
+    salience = pagerank(sim, cfg.damping) * prior * np.where(a.quoted, cfg.quote_weight, 1.0)
     k = max(1, int(round(cfg.cluster_share * len(a.texts))))
     labels = _clusters(a, k)
     pool_budget = int(budget * 1.4) + 10

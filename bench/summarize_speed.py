@@ -1,0 +1,63 @@
+"""Summarizer speed and memory: a 5,000-word and a 20,000-word source to 150 words with 8
+scored candidates; medians on this machine with the models already loaded; peak memory of
+the process (resident set, from the OS) after both.
+
+    .venv/bin/python bench/summarize_speed.py [--repeats 3]
+
+Targets (the summarizer issue): 5,000 words in at most 30 s; 20,000 words at most 4.5x that;
+peak memory at most 3 GB. Each repeat uses a fresh evaluator, so nothing of the source is
+cached between repeats (models stay loaded).
+"""
+
+from __future__ import annotations
+
+import argparse
+import resource
+import statistics
+import sys
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from bench.common import save  # noqa: E402
+from bench.coverage_speed import corpus  # noqa: E402
+
+
+def main(argv=None):
+    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--repeats", type=int, default=3)
+    parser.add_argument("--candidates", type=int, default=8)
+    args = parser.parse_args(argv)
+
+    from scoring.evaluate import Evaluator
+    from scoring.models import causal_in_dtype, load_causal, load_encoder, load_spacy, set_threads
+    from summarize.embed import _encoder
+    from summarize.pipeline import summarize
+    from summarize.reading import parse_text
+
+    threads = set_threads()
+    load_causal(), causal_in_dtype("bfloat16"), load_encoder(), load_spacy(), _encoder()
+    results = {}
+    for n in (5000, 20000):
+        doc = parse_text(corpus(n), "md")
+        times, stages = [], None
+        for _ in range(args.repeats):
+            marks = []
+            start = time.perf_counter()
+            result = summarize(doc, 150, candidates=args.candidates, evaluator=Evaluator(),
+                               progress=lambda m: marks.append((time.perf_counter() - start, m)))
+            times.append(time.perf_counter() - start)
+            stages = marks
+        results[n] = {"median_s": statistics.median(times), "runs": times, "candidates_scored": len(result.candidates),
+                      "words": result.words, "stages": [(round(t, 2), m) for t, m in stages]}
+        print(f"{n:>6} words -> {result.words} words, {len(result.candidates)} scored candidates: "
+              f"median {results[n]['median_s']:.1f} s over {args.repeats} runs")
+    peak_gb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024 / 1024
+    ratio = results[20000]["median_s"] / results[5000]["median_s"]
+    print(f"20,000 / 5,000 words: {ratio:.2f}x; peak memory {peak_gb:.2f} GB (max resident set)")
+    out = save("summarize_speed", {"threads": threads, "by_length": results, "ratio_20k_to_5k": ratio, "peak_rss_gb": peak_gb})
+    print(f"written {out}")
+
+
+if __name__ == "__main__":
+    main()
