@@ -88,7 +88,6 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
     """
     from summarize import report
     from summarize.pipeline import summarize as run
-    from summarize.reading import looks_english, parse_text, read_document
 
     if sum(x is not None for x in (words, ratio, sentences)) > 1:
         raise click.UsageError("give only one of --words, --ratio and --sentences")
@@ -97,13 +96,7 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
     if out:
         report.check_writable(out)
     say = _progress(quiet)
-    if source == "-":
-        document = parse_text(click.get_text_stream("stdin").read(), source="stdin")
-    else:
-        document = read_document(source)
-    if not any_language and not looks_english(document.text):
-        raise Failure(f"'{source}' does not look like English text; boildown's models are English-only "
-                      "(pass --any-language to summarize it anyway)")
+    document = _read_source(source, any_language)
     result = run(document, words, ratio=ratio, sentences=sentences, candidates=candidates or DEFAULT_CANDIDATES,
                  compress=compress, progress=say)
     if result.notice:
@@ -166,16 +159,21 @@ def models_cmd(as_json, no_load):
         raise Failure(f"{len(bad)} model(s) unavailable: {', '.join(s.key for s in bad)}; run `boildown setup`")
 
 
-def _read_source(path: str, any_language: bool) -> str:
-    from summarize.reading import looks_english, read_document
+def _read_source(path: str, any_language: bool):
+    """The source as a reading.Document ("-" reads standard input), refused when it does not
+    look like English unless --any-language."""
+    from summarize.reading import looks_english, parse_text, read_document
 
-    text = read_document(path).text
-    if not any_language and not looks_english(text):
+    if path == "-":
+        document = parse_text(click.get_text_stream("stdin").read(), source="stdin")
+    else:
+        document = read_document(path)
+    if not any_language and not looks_english(document.text):
         raise Failure(
             f"'{path}' does not look like English text; boildown's models are English-only "
-            "(pass --any-language to score it anyway)"
+            "(pass --any-language to use it anyway)"
         )
-    return text
+    return document
 
 
 def _progress(quiet: bool):
@@ -227,7 +225,7 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
     if as_json and as_csv:
         raise click.UsageError("choose one of --json and --csv")
     say = _progress(quiet)
-    text = _read_source(source, any_language)
+    text = _read_source(source, any_language).text
     stdin_text = click.get_text_stream("stdin").read() if "-" in summaries else None
     candidates = read_candidates(summaries, stdin_text)
     refs = [read_document(r).text for r in references]
@@ -259,7 +257,7 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
 
 @main.command(name="compare")
 @click.argument("source", type=click.Path(dir_okay=False))
-@click.argument("candidates", nargs=-1, required=True)
+@click.argument("candidates", nargs=-1, required=False)
 @click.option("--reference", "references", multiple=True, type=click.Path(dir_okay=False),
               help="A human reference summary; adds ROUGE and BERTScore. Repeat for several.")
 @click.option("--words", type=click.IntRange(min=1), default=None,
@@ -267,10 +265,12 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
 @click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
               help="Write the comparison page (one self-contained HTML file) to this path and print the path.")
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
+@click.option("--summaries", type=click.IntRange(0, len(RECIPES)), default=0, show_default=True,
+              help="Add boildown's own N best candidate summaries (at --words, default 150) to the comparison.")
 @click.option("--any-language", is_flag=True, help="Compare text that does not look like English.")
 @click.option("-q", "--quiet", is_flag=True, help="No progress messages on stderr.")
 @_fail_on_model_error
-def compare_cmd(source, candidates, references, words, html_path, as_json, any_language, quiet):
+def compare_cmd(source, candidates, references, words, html_path, as_json, summaries, any_language, quiet):
     """Compare CANDIDATES (summaries of SOURCE) side by side.
 
     \b
@@ -293,15 +293,25 @@ def compare_cmd(source, candidates, references, words, html_path, as_json, any_l
 
     if html_path:
         report_html.check_target(html_path)  # fail before minutes of scoring, not after
+    if not candidates and not summaries:
+        raise click.UsageError("give candidate summaries to compare, or --summaries N for boildown's own")
     say = _progress(quiet)
-    _read_source(source, any_language)  # the English check and its message
-    document = read_document(source)  # headings and lists for the page
+    document = _read_source(source, any_language)  # headings and lists for the page
     stdin_text = click.get_text_stream("stdin").read() if "-" in candidates else None
     pairs = read_candidates(candidates, stdin_text)
     refs = [read_document(r).text for r in references]
-    # --summaries N goes here (main engineer): add boildown's own candidates to `pairs` and pass
-    # their sentence provenance as compare(..., provenance={name: [[source sentence indices], ...]}).
     provenance = None
+    if summaries:
+        from summarize.pipeline import summarize as run
+        from summarize.segment import split_sentences
+
+        own = run(document, words or 150, candidates=max(summaries, 1), progress=say)
+        provenance = {}
+        for draft, _ in own.candidates[:summaries]:
+            name = f"boildown:{draft.recipe}"
+            pairs.append((name, draft.text))
+            if len(split_sentences(draft.text)) == len(draft.sentences):
+                provenance[name] = [[s.source] for s in draft.sentences]
     for warning in comparing.candidate_warnings(document.text, pairs):
         say(warning)
     result = comparing.compare(
