@@ -54,7 +54,7 @@ class CoverageConfig:
     """Settings of the coverage scorer (CLI defaults and help read these)."""
 
     keywords: int = 40
-    window: int = 96
+    window: int = 32
     max_blanks: int = 240
     per_keyword: int = 6
     headline: str = "logprob"
@@ -64,7 +64,7 @@ class CoverageConfig:
     blank: str = "___"
     filler: str = "."
     prefix_bucket: int = 32
-    row_tokens: int = 512
+    row_tokens: int = 128
     batch_tokens: int = 4096
 
     def __post_init__(self):

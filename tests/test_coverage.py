@@ -72,7 +72,7 @@ def test_signature_text():
 
     sig = str(CoverageScorer().signature())
     assert sig == (
-        f"coverage|model:smollm2-135m@{short_checksum('causal')}|dtype:bfloat16|keys:40|mode:middle|window:96|"
+        f"coverage|model:smollm2-135m@{short_checksum('causal')}|dtype:bfloat16|keys:40|mode:middle|window:32|"
         f"blanks:240|perkey:6|head:logprob|lower:yes|torch:{package_version('torch')}|"
         f"hf:{package_version('transformers')}|spacy:{package_version('spacy')}|v:{package_version('boildown')}"
     )
