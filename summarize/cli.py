@@ -176,6 +176,14 @@ def _read_source(path: str, any_language: bool):
     return document
 
 
+_reference_option = click.option(
+    "--reference", "references", multiple=True, type=click.Path(dir_okay=False),
+    help="A human reference summary; adds ROUGE and BERTScore. Repeat for several.")
+_budget_option = click.option(
+    "--words", type=click.IntRange(min=1), default=None,
+    help="Word budget: a candidate over it is flagged and ranked last.")
+
+
 def _progress(quiet: bool):
     return (lambda _m: None) if quiet else (lambda m: click.echo(f"boildown: {m}", err=True))
 
@@ -183,10 +191,8 @@ def _progress(quiet: bool):
 @main.command()
 @click.argument("source", type=click.Path(dir_okay=False))
 @click.argument("summaries", nargs=-1, required=True)
-@click.option("--reference", "references", multiple=True, type=click.Path(dir_okay=False),
-              help="A human reference summary; adds ROUGE and BERTScore. Repeat for several.")
-@click.option("--words", type=click.IntRange(min=1), default=None,
-              help="Word budget: a candidate over it is flagged and ranked last.")
+@_reference_option
+@_budget_option
 @click.option("--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
               help="How many key words to blank in the source.")
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
@@ -258,10 +264,8 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
 @main.command(name="compare")
 @click.argument("source", type=click.Path(dir_okay=False))
 @click.argument("candidates", nargs=-1, required=False)
-@click.option("--reference", "references", multiple=True, type=click.Path(dir_okay=False),
-              help="A human reference summary; adds ROUGE and BERTScore. Repeat for several.")
-@click.option("--words", type=click.IntRange(min=1), default=None,
-              help="Word budget: a candidate over it is flagged and ranked last.")
+@_reference_option
+@_budget_option
 @click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
               help="Write the comparison page (one self-contained HTML file) to this path and print the path.")
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
