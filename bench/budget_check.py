@@ -3,7 +3,7 @@
 Every candidate recipe of the default search is built (no scoring needed: the budget is a
 property of the drafts) at 50, 100, 150, 250 and 400 words. Checks: never above the budget;
 at least 95% of it filled when the source is longer. External documents: the 50 SQuALITY
-train stories, 30 LongSciVerify papers and 20 LongEval PubMed sources (100 in all).
+train stories, 30 LongSciVerify papers and the 20 distinct LongEval PubMed sources (100 in all).
 
     .venv/bin/python bench/budget_check.py [--limit N]
 """
@@ -31,8 +31,14 @@ def documents(limit):
     external = [(f"squality:{e.id}", document_of(e)) for e in data.squality("train")]
     external += [(f"longsciverify:{e.id}", document_of(e)) for e in data.longsciverify()]
     longeval = json.loads((DATA / "longdoc" / "raw_data" / "LongEval" / "pubmed_summary_src_doc_data.json").read_text())
-    for key in sorted(longeval)[:20]:
-        external.append((f"longeval:{key}", parse_text(longeval[key]["source_doc"])))
+    seen = set()
+    for key in sorted(longeval):  # three summaries per article: each source once
+        source = longeval[key]["source_doc"]
+        if source in seen or len(seen) == 20:
+            continue
+        seen.add(source)
+        # the release marks line breaks as "<br />" inside plain text
+        external.append((f"longeval:{key.rsplit('_', 1)[0]}", parse_text(source.replace("<br />", "\n"))))
     return docs + external[:limit]
 
 

@@ -11,7 +11,7 @@
    summaries; the mean Kendall tau over stories.
 3. Compression on vs off: the "balanced" recipe at the same budget with and without deletions.
 
-    .venv/bin/python bench/quality.py [--limit N] [--parts main,ranking,compression]
+    .venv/bin/python bench/quality.py [--limit N] [--parts main,ranking,compression] [--name quality]
 """
 
 from __future__ import annotations
@@ -147,6 +147,7 @@ def main(argv=None):
     parser.add_argument("--limit", type=int, default=None, help="first N documents of each set")
     parser.add_argument("--parts", default="main,ranking,compression")
     parser.add_argument("--candidates", type=int, default=8)
+    parser.add_argument("--name", default="quality", help="results file bench/results/NAME.json")
     args = parser.parse_args(argv)
     from scoring.evaluate import default_evaluator
 
@@ -159,7 +160,7 @@ def main(argv=None):
         print(f"skipped: {exc}")
         return
     results = {}
-    previous = RESULTS / "quality.json"
+    previous = RESULTS / f"{args.name}.json"
     if previous.exists():
         results = json.loads(previous.read_text()).get("results", {})
     if "main" in parts:
@@ -185,7 +186,7 @@ def main(argv=None):
         for k, v in results["compression"].items():
             print(f"\ncompression on vs off, {k}: coverage {v['coverage_on']:.1f}% vs {v['coverage_off']:.1f}% "
                   f"(higher on {v['coverage_higher_with_compression']}/{v['documents']}), fluency {v['fluency_on']:.3f} vs {v['fluency_off']:.3f}")
-    path = save("quality", {"limit": args.limit, "candidates": args.candidates, "results": results})
+    path = save(args.name, {"limit": args.limit, "candidates": args.candidates, "results": results})
     print(f"written {path}")
 
 

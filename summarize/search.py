@@ -17,6 +17,7 @@ Every candidate is then scored by ``scoring.evaluate`` and the best is returned.
 from __future__ import annotations
 
 import functools
+import math
 import re
 from dataclasses import dataclass, field, replace
 from typing import Callable
@@ -327,7 +328,7 @@ def _fill(a: Analysis, chosen: list[int], texts: dict[int, str], dropped: dict[i
                 continue
             form = texts.get(j, a.texts[j]).split()
             if len(form) > room:
-                text_of[j] = _cut(form, room)
+                text_of[j] = _cut(form, room, math.ceil(FILL_TARGET * budget) - used)
                 current[j] = list(dropped.get(j, []))
                 cut = j
                 used += len(text_of[j].split())
@@ -339,11 +340,12 @@ def _fill(a: Analysis, chosen: list[int], texts: dict[int, str], dropped: dict[i
     return Draft("", sentences)
 
 
-def _cut(words: list[str], room: int) -> str:
-    """The first ``room`` words, ending after the last clause mark if that keeps 60% of them."""
+def _cut(words: list[str], room: int, minimum: int = 0) -> str:
+    """The first ``room`` words, ending after the last clause mark if that keeps 60% of them
+    and at least ``minimum`` words (what the budget's fill target still needs)."""
     head = words[:room]
     for k in range(len(head) - 1, -1, -1):
-        if k + 1 < 0.6 * room:
+        if k + 1 < max(0.6 * room, minimum):
             break
         if head[k].endswith((",", ";", ":")):
             head = head[: k + 1]

@@ -47,7 +47,36 @@ def split_sentences(text: str) -> list[str]:
     return [s for s, _ in _split_with_offsets(text)]
 
 
+# A "sentence" longer than this is split again at terminal punctuation followed by space, even
+# before a lower-case word: syntok (rightly) never splits there, but lower-cased or tokenised
+# text ("... countries ( 1).vitamin d is ...") otherwise comes back as one huge sentence.
+LONG_SENTENCE = 80
+_RESPLIT = re.compile(r"(?<=[.!?])\s+(?=[a-z(\[])|(?<=\S[.!?])(?=[a-z][a-z])")
+
+
 def _split_with_offsets(text: str) -> list[tuple[str, int]]:
+    out = []
+    for sentence, start in _syntok_offsets(text):
+        if len(sentence.split()) <= LONG_SENTENCE:
+            out.append((sentence, start))
+            continue
+        raw = text[start:]
+        cursor = 0
+        pieces = []
+        for m in _RESPLIT.finditer(sentence):
+            pieces.append(sentence[cursor : m.start()].strip())
+            cursor = m.end()
+        pieces.append(sentence[cursor:].strip())
+        offset = start
+        for piece in pieces:
+            if piece:
+                found = raw.find(piece.split()[0])
+                out.append((piece, start + found if found >= 0 else offset))
+                offset = out[-1][1]
+    return out
+
+
+def _syntok_offsets(text: str) -> list[tuple[str, int]]:
     from syntok import segmenter
 
     out = []

@@ -608,3 +608,21 @@ def test_compare_end_to_end_with_models(tmp_path):
     assert len(data["links"]["good.txt"]["sentences"]) == 2
     assert page.is_file() and "<table class=\"grid\">" in page.read_text()
     assert [s["name"] for s in data["signatures"]] == ["coverage", "fluency", "combined", "align"]
+
+
+@pytest.mark.models
+def test_compare_adds_boildowns_own_candidates_with_provenance(tmp_path):
+    result = CliRunner().invoke(
+        main, ["compare", str(SOURCE), str(WEAK), "--summaries", "2", "--words", "60", "--json", "-q"]
+    )
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.stdout)
+    own = [c["name"] for c in data["candidates"] if c["name"].startswith("boildown:")]
+    assert 1 <= len(own) <= 2
+    for name in own:
+        assert data["links"][name]["origin"] == "provenance" or data["links"][name]["sentences"]
+
+
+def test_compare_needs_candidates_or_summaries():
+    result = CliRunner().invoke(main, ["compare", str(SOURCE)])
+    assert result.exit_code == 2 and "--summaries" in result.output
