@@ -149,14 +149,17 @@ class CausalTokenModel:
         return out  # type: ignore[return-value]
 
 
-_VERB_POS = {"VERB", "AUX"}
+_FINITE = {"VBD", "VBP", "VBZ", "MD"}
 _WORD = re.compile(r"[a-z0-9']+")
 
 
 def _has_verb(sentence: str) -> bool:
-    from scoring.keywords import _tag
+    """A finite verb, or an imperative (a base-form verb at the root). A participle alone
+    ("The filters, installed last spring.") is what a deletion that removed the verb leaves."""
+    from scoring.models import load_spacy
 
-    return any(t.pos_ in _VERB_POS for t in _tag(sentence))
+    doc = load_spacy()(sentence)
+    return any(t.tag_ in _FINITE or (t.dep_ == "ROOT" and t.tag_ == "VB") for t in doc)
 
 
 def _trigrams(sentence: str) -> set[tuple[str, ...]]:
