@@ -9,7 +9,8 @@
 2. Ranking agreement on SQuALITY dev (25 stories): boildown's candidates plus LEAD and TextRank
    at the same budget, ranked by boildown's combined score and by ROUGE-2 F1 against the human
    summaries; the mean Kendall tau over stories.
-3. Compression on vs off: the "balanced" recipe at the same budget with and without deletions.
+3. Compression on vs off: the "balanced" recipe at the same budget with and without deletions
+   (the first 20 documents of each set by default).
 
     .venv/bin/python bench/quality.py [--limit N] [--parts main,ranking,compression] [--name quality]
 """
@@ -148,6 +149,8 @@ def main(argv=None):
     parser.add_argument("--parts", default="main,ranking,compression")
     parser.add_argument("--candidates", type=int, default=8)
     parser.add_argument("--name", default="quality", help="results file bench/results/NAME.json")
+    parser.add_argument("--compression-limit", type=int, default=20,
+                        help="documents of each set for the compression on/off comparison (default 20)")
     args = parser.parse_args(argv)
     from scoring.evaluate import default_evaluator
 
@@ -180,8 +183,8 @@ def main(argv=None):
         print(f"\nranking agreement (SQuALITY dev): mean Kendall tau {results['ranking_squality_dev']['mean_kendall_tau']:.3f}")
     if "compression" in parts:
         results["compression"] = {
-            "squality_test": run_compression(squality_test, evaluator),
-            "longsciverify": run_compression(papers, evaluator),
+            "squality_test": run_compression(squality_test[: args.compression_limit], evaluator),
+            "longsciverify": run_compression(papers[: args.compression_limit], evaluator),
         }
         for k, v in results["compression"].items():
             print(f"\ncompression on vs off, {k}: coverage {v['coverage_on']:.1f}% vs {v['coverage_off']:.1f}% "
