@@ -129,3 +129,8 @@ def test_corrupt_converted_copy_is_rebuilt(tmp_path, monkeypatch):
     rebuilt = models.convert_causal(progress=messages.append)
     assert rebuilt == copy and models._verify(copy)
     assert any("failed its checksum" in m for m in messages)
+
+
+def test_python_dash_m_runs_the_same_command_line():
+    out = subprocess.run([sys.executable, "-m", "summarize", "--help"], capture_output=True, text=True, check=True)
+    assert "summarize" in out.stdout and "score" in out.stdout and "qualified person" in out.stdout
