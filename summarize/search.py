@@ -19,6 +19,7 @@ from __future__ import annotations
 import functools
 import math
 import re
+from collections import Counter
 from dataclasses import dataclass, field, replace
 from typing import Callable
 
@@ -206,11 +207,13 @@ def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[
     from summarize.compress import compatible
 
     found = _deletions(a, pool)
-    pool_text = " ".join(a.texts[i] for i in pool).lower()
+    from summarize.embed import words
+
+    pool_words = Counter(w for i in pool for w in words(a.texts[i]))
     priced = []
     for i, dels in found.items():
         for d in dels:
-            kw = _keyword_loss(a, d, pool_text)
+            kw = _keyword_loss(a, d, pool_words)
             flu = _fluency_cost(a, i, d)
             priced.append(((kw + flu) / max(1, d.words), kw + flu, i, d))
     priced.sort(key=lambda x: x[0])
@@ -237,14 +240,14 @@ def _deletions(a: Analysis, pool: list[int]) -> dict[int, list[Deletion]]:
     return {i: a._parse[i] for i in pool}
 
 
-def _keyword_loss(a: Analysis, d: Deletion, pool_text: str) -> float:
+def _keyword_loss(a: Analysis, d: Deletion, pool_words: Counter) -> float:
     """Salience of the key words the span holds that the rest of the pool does not repeat."""
     from summarize.embed import words
 
     loss = 0.0
     for w in set(words(d.text)):
         s = a.keyword_salience.get(w)
-        if s and pool_text.count(w) <= 1:
+        if s and pool_words[w] <= 1:
             loss += s
     return loss
 
