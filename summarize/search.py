@@ -121,10 +121,16 @@ def _quoted(text: str) -> bool:
 _ENDINGS = (".", "!", "?", '."', '?"', '!"', ".\u201d", ".)", ".'")
 
 
+# A line led by a short capitalised label and a colon ("Geosmin: a compound made by algae.") is a
+# glossary entry or a form field, not a sentence a summary can stand on.
+_LABEL = re.compile(r"^\W*[A-Z0-9][^\s:]*(?:\s+[A-Z0-9(&][^\s:]*){0,3}:\s")
+
+
 def _complete(text: str) -> bool:
-    """A full sentence: ends with terminal punctuation and has a lower-case word in it."""
+    """A full sentence: ends with terminal punctuation, has a lower-case word, and is not a
+    label-and-colon line."""
     t = text.rstrip()
-    return t.endswith(_ENDINGS) and any(w.islower() for w in t.split()[1:])
+    return t.endswith(_ENDINGS) and any(w.islower() for w in t.split()[1:]) and not _LABEL.match(t)
 
 
 def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Draft:

@@ -47,6 +47,10 @@ def test_cut_keeps_a_clause_when_it_can(words, room, expected):
 @pytest.mark.parametrize("text, ok", [
     ("The board approved the plan.", True), ("Summary of key findings", False), ("Lead: 7", False),
     ("HOW WE MONITOR WATER.", False), ('He said "stop."', True),
+    # glossary entries and form fields (a capitalised label, a colon) are not sentences
+    ("Geosmin: A natural compound produced by some algae.", False),
+    ("Upper Ashpool Reservoir: closed for works.", False),
+    ("The board said: we will act.", True), ("In 2024 the board ran tests: 26 failed.", True),
 ])
 def test_complete_sentence_rule(text, ok):
     assert _complete(text) is ok
