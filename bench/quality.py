@@ -147,6 +147,8 @@ def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--limit", type=int, default=None, help="first N documents of each set")
     parser.add_argument("--parts", default="main,ranking,compression")
+    parser.add_argument("--sets", default="squality_test,longsciverify",
+                        help="data sets for the main comparison (each is saved as soon as it is done)")
     parser.add_argument("--candidates", type=int, default=8)
     parser.add_argument("--name", default="quality", help="results file bench/results/NAME.json")
     parser.add_argument("--compression-limit", type=int, default=20,
@@ -168,7 +170,10 @@ def main(argv=None):
         results = json.loads(previous.read_text()).get("results", {})
     if "main" in parts:
         for name, examples in (("squality_test", squality_test), ("longsciverify", papers)):
+            if name not in args.sets.split(","):
+                continue
             results[name] = run_main(examples, name, evaluator, args.candidates)
+            checkpoint(args, results)
             block = results[name]
             print(f"\n{name}: {len(examples)} documents, mean budget {block['mean_budget']:.0f} words")
             print(f"{'system':10s} {'R-1':>6s} {'R-2':>6s} {'R-Lsum':>7s} {'coverage':>9s} {'fluency':>8s} {'words':>6s}")
@@ -181,6 +186,7 @@ def main(argv=None):
     if "ranking" in parts:
         results["ranking_squality_dev"] = run_ranking(evaluator, args.candidates, args.limit)
         print(f"\nranking agreement (SQuALITY dev): mean Kendall tau {results['ranking_squality_dev']['mean_kendall_tau']:.3f}")
+        checkpoint(args, results)
     if "compression" in parts:
         results["compression"] = {
             "squality_test": run_compression(squality_test[: args.compression_limit], evaluator),
@@ -189,8 +195,17 @@ def main(argv=None):
         for k, v in results["compression"].items():
             print(f"\ncompression on vs off, {k}: coverage {v['coverage_on']:.1f}% vs {v['coverage_off']:.1f}% "
                   f"(higher on {v['coverage_higher_with_compression']}/{v['documents']}), fluency {v['fluency_on']:.3f} vs {v['fluency_off']:.3f}")
-    path = save(args.name, {"limit": args.limit, "candidates": args.candidates, "results": results})
-    print(f"written {path}")
+    print(f"written {checkpoint(args, results)}")
+
+
+def checkpoint(args, results: dict) -> Path:
+    """Write what is done so far (parts already in the file from earlier runs are kept)."""
+    import subprocess
+
+    commit = subprocess.run(["git", "describe", "--always", "--dirty"], capture_output=True, text=True,
+                            cwd=Path(__file__).parent).stdout.strip()
+    return save(args.name, {"limit": args.limit, "candidates": args.candidates, "commit": commit or None,
+                            "results": results})
 
 
 if __name__ == "__main__":
