@@ -14,12 +14,17 @@ source:
 It then prints precision and recall of the state rule in scoring/coverage.py (and of the
 variants listed in RULES) for "recovered" against containment, per kind of source.
 
-    .venv/bin/python bench/keyword_states.py [--stories 25] [--realsumm 20]
+    .venv/bin/python bench/keyword_states.py [--stories 8] [--realsumm 10] [--rows FILE]
+
+The per-key-word evidence is written to --rows (default /tmp/boildown_keyword_states.json,
+outside the project: it holds words of the external data); --retable re-reads it and
+recomputes the table without running the model, after a change to the rule.
 """
 
 from __future__ import annotations
 
 import argparse
+import json
 import math
 import sys
 from pathlib import Path
@@ -66,6 +71,7 @@ def current(l0, l1):
 RULES = {
     "in use (scoring/coverage.py)": current,
     "p1>=0.05 & gain>=1.5 (short-source rule alone)": lambda l0, l1: l1 >= math.log(0.05) and l1 - l0 >= 1.5,
+    "gain>=40% of surprisal & gain>=2": lambda l0, l1: l1 - l0 >= 2 and l1 - l0 >= 0.4 * -l0,
     "gain>=6 & l1>=-10": lambda l0, l1: l1 - l0 >= 6 and l1 >= -10,
     "gain>=5 & l1>=-10": lambda l0, l1: l1 - l0 >= 5 and l1 >= -10,
     "gain>=7 & l1>=-12": lambda l0, l1: l1 - l0 >= 7 and l1 >= -12,
@@ -96,9 +102,14 @@ def table(rows: list[dict]) -> dict:
 
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    parser.add_argument("--stories", type=int, default=25, help="SQuALITY dev stories (long sources)")
-    parser.add_argument("--realsumm", type=int, default=20, help="REALSumm documents (short sources)")
+    parser.add_argument("--stories", type=int, default=8, help="SQuALITY dev stories (long sources)")
+    parser.add_argument("--realsumm", type=int, default=10, help="REALSumm documents (short sources)")
+    parser.add_argument("--rows", type=Path, default=Path("/tmp/boildown_keyword_states.json"))
+    parser.add_argument("--retable", action="store_true", help="recompute the table from --rows only")
     args = parser.parse_args(argv)
+    if args.retable:
+        saved = json.loads(args.rows.read_text())
+        return report(saved["rows"], saved["stories"], saved["realsumm_documents"], saved["signature"])
 
     from scoring.coverage import CoverageScorer
 
@@ -120,15 +131,21 @@ def main(argv=None):
         print(f"\rshort: {n + 1}/{len(docs)}", end="", file=sys.stderr)
     print(file=sys.stderr)
 
+    signature = str(scorer.signature())
+    args.rows.write_text(json.dumps({"stories": len(stories), "realsumm_documents": len(docs), "signature": signature,
+                                     "rows": rows}))
+    report(rows, len(stories), len(docs), signature)
+
+
+def report(rows, stories: int, documents: int, signature: str):
     result = table(rows)
     for kind, block in result.items():
         print(f"\n{kind}: {block['key_words']} key-word judgements, {block['contained_share']:.0%} contained")
         for name, r in block.items():
             if isinstance(r, dict):
                 print(f"  {name:48s} precision {r['precision']}  recall {r['recall']}  recovered {r['recovered_share']}")
-    save("keyword_states", {"stories": len(stories), "realsumm_documents": len(docs), "results": result,
-                            "signature": str(scorer.signature())})
-    Path("/tmp/keyword_states_rows.json").write_text(__import__("json").dumps(rows))
+    save("keyword_states", {"stories": stories, "realsumm_documents": documents, "results": result,
+                            "signature": signature})
 
 
 if __name__ == "__main__":

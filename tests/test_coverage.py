@@ -7,7 +7,7 @@ import json
 
 import pytest
 
-from scoring.coverage import RECOVERED_GAIN, CoverageConfig, CoverageScorer, KeywordEvidence, _merge_windows
+from scoring.coverage import RECOVERED_GAIN, RECOVERED_SHARE, CoverageConfig, CoverageScorer, KeywordEvidence, _merge_windows
 from conftest import shared_data
 
 SOURCE = (
@@ -34,11 +34,17 @@ def test_config_is_validated(bad):
 
 @pytest.mark.parametrize(
     "p0, p1, status",
-    [(0.30, 0.90, "known"), (0.001, 0.20, "recovered"), (0.01, 0.04, "missed"), (0.02, 0.06, "missed")],
+    [
+        (0.30, 0.90, "known"),  # guessable without the summary
+        (0.001, 0.20, "recovered"),  # gain 5.3 nats of a surprisal of 6.9 (77%)
+        (0.01, 0.04, "missed"),  # gain 1.4 nats: under the 2-nat floor
+        (1e-9, 1e-5, "recovered"),  # a rare name: 9.2 of 20.7 nats (44%) although p1 stays small
+        (1e-9, 1e-6, "missed"),  # 6.9 of 20.7 nats (33%): under 40%
+    ],
 )
 def test_keyword_states(p0, p1, status):
-    # recovered needs p1 >= 0.05 and a gain of at least RECOVERED_GAIN nats (0.06/0.02 = e^1.1)
-    assert RECOVERED_GAIN == 1.5
+    # recovered: the summary removes at least 40% of the surprisal and at least 2 nats
+    assert (RECOVERED_SHARE, RECOVERED_GAIN) == (0.4, 2.0)
     assert KeywordEvidence("w", 1, p0, p1, 0, 0).status == status
 
 
