@@ -98,6 +98,7 @@ def run_ranking(evaluator, candidates: int, limit: int | None):
     rouge = RougeScorer(["rouge2"], use_stemmer=True)
     stories = data.squality("dev")[:limit]
     taus = []
+    evidence = []  # per story: each candidate's scores, to study the ranking without re-running it
     for n, ex in enumerate(stories, 1):
         doc = document_of(ex)
         result = summarize(doc, ex.budget_words, candidates=candidates, evaluator=evaluator)
@@ -111,10 +112,18 @@ def run_ranking(evaluator, candidates: int, limit: int | None):
         tau = kendall(ours, theirs)
         if tau == tau:
             taus.append(tau)
+        evidence.append({"story": ex.id, "tau": tau, "candidates": [
+            {"name": c.name, "combined": c.combined, "coverage": c.coverage.share, "fluency": c.fluency.value,
+             "words": c.words, "rouge2": r2} for c, r2 in zip(ranked, theirs)]})
         print(f"\rranking: {n}/{len(stories)} stories, mean tau {statistics.mean(taus) if taus else float('nan'):.3f}",
               end="", file=sys.stderr)
     print(file=sys.stderr)
-    return {"stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus}
+    coverage_only = [kendall([c["coverage"] for c in e["candidates"]], [c["rouge2"] for c in e["candidates"]])
+                     for e in evidence]
+    coverage_only = [t for t in coverage_only if t == t]
+    return {"stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus,
+            "mean_kendall_tau_coverage_alone": statistics.mean(coverage_only) if coverage_only else None,
+            "evidence": evidence}
 
 
 def run_compression(examples, evaluator):
