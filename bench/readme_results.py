@@ -129,9 +129,11 @@ def fluency() -> list[str]:
             f"{c['fluency value']['kendall_all']:.2f} for our fluency value (Spearman "
             f"{c['fluency value']['spearman_all']:.2f}; within a paper {c['fluency value']['kendall_within_paper_mean']:.2f}), "
             f"{c['-log perplexity']['kendall_all']:.2f} for minus log perplexity alone. **Our fluency does not agree "
-            "with these reviewers**: their best-rated system writes abstractive summaries whose endings our "
-            "flags read as unfinished or verbless, and the ratings follow writing style more than broken "
-            "sentences. Treat fluency as a check for broken deletions, not as a judgement of style.",
+            "with these reviewers.** By system, they rate " + ", ".join(
+                f"{k} {v:.2f}" for k, v in d["human_by_system"].items()) + " (1-3 scale) and our value gives "
+            + ", ".join(f"{k} {v:.2f}" for k, v in d["ours_by_system"].items()) + ": our flags fire on the "
+            "truncated endings and formatting remnants in two systems' outputs, which the reviewers did not "
+            "hold against them. Treat fluency as a check for broken deletions, not as a judgement of style.",
             "",
         ]
     return out
