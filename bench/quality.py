@@ -209,12 +209,19 @@ def main(argv=None):
 
 def checkpoint(args, results: dict) -> Path:
     """Write what is done so far (parts already in the file from earlier runs are kept)."""
+    return save(args.name, {"limit": args.limit, "candidates": args.candidates, "commit": COMMIT or None,
+                            "results": results})
+
+
+def _commit() -> str:
+    """The code being measured: the commit checked out when the run started (+ "-dirty")."""
     import subprocess
 
-    commit = subprocess.run(["git", "describe", "--always", "--dirty"], capture_output=True, text=True,
-                            cwd=Path(__file__).parent).stdout.strip()
-    return save(args.name, {"limit": args.limit, "candidates": args.candidates, "commit": commit or None,
-                            "results": results})
+    return subprocess.run(["git", "describe", "--always", "--dirty"], capture_output=True, text=True,
+                          cwd=Path(__file__).parent).stdout.strip()
+
+
+COMMIT = _commit()
 
 
 if __name__ == "__main__":

@@ -19,7 +19,6 @@ from __future__ import annotations
 import functools
 import math
 import re
-from collections import Counter
 from dataclasses import dataclass, field, replace
 from typing import Callable
 
@@ -68,7 +67,8 @@ class Analysis:
     tfidf: np.ndarray
     headings: dict[int, str]
     n_sections: int
-    keyword_salience: dict[str, float]
+    keyword_salience: dict[str, float]  # key-word lemma -> salience (top = 1)
+    keyword_forms: dict = field(default_factory=dict)  # lemma -> pattern of its surface forms in this source
     _sim: dict = field(default_factory=dict)
     _parse: dict = field(default_factory=dict)
     _fluency: dict = field(default_factory=dict)
@@ -100,10 +100,23 @@ def analyse(document, keywords: int = 40, progress: Callable[[str], None] | None
     kwset = choose_keywords(document.text, KeywordConfig(count=keywords))
     top = max((k.salience for k in kwset.keywords), default=1.0)
     salience = {k.lemma: k.salience / top for k in kwset.keywords}
+    forms = {k.lemma: _forms_pattern(k.lemma, [document.text[b:e] for b, e in k.spans]) for k in kwset.keywords}
     costs = np.array([max(1, len(t.split())) for t in texts])
     complete = np.array([_complete(t) for t in texts], dtype=bool)
     quoted = np.array([_quoted(t) for t in texts], dtype=bool)
-    return Analysis(sentences, texts, costs, complete, quoted, vectors, tfidf(texts), headings, section, salience)
+    return Analysis(sentences, texts, costs, complete, quoted, vectors, tfidf(texts), headings, section, salience,
+                    keyword_forms=forms)
+
+
+def _forms_pattern(lemma: str, surfaces: list[str]) -> re.Pattern:
+    """Every way a key word is written in the source ("pipe", "pipes"; "43,210"), as whole words."""
+    forms = sorted({f.lower() for f in surfaces if f.strip()} | {lemma.lower()}, key=len, reverse=True)
+    return re.compile(r"(?<![\w-])(?:" + "|".join(re.escape(f) for f in forms) + r")(?![\w-])", re.IGNORECASE)
+
+
+def _keyword_counts(a: "Analysis", text: str) -> dict[str, int]:
+    """How many times each key word (any of its forms) occurs in a text."""
+    return {lemma: len(p.findall(text)) for lemma, p in a.keyword_forms.items()}
 
 
 _QUOTE = re.compile(r"[\"\u201c\u201d]")
@@ -213,13 +226,11 @@ def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[
     from summarize.compress import compatible
 
     found = _deletions(a, pool)
-    from summarize.embed import words
-
-    pool_words = Counter(w for i in pool for w in words(a.texts[i]))
+    pool_counts = _keyword_counts(a, "\n".join(a.texts[i] for i in pool))
     priced = []
     for i, dels in found.items():
         for d in dels:
-            kw = _keyword_loss(a, d, pool_words)
+            kw = _keyword_loss(a, d, pool_counts)
             flu = _fluency_cost(a, i, d)
             priced.append(((kw + flu) / max(1, d.words), kw + flu, i, d))
     priced.sort(key=lambda x: x[0])
@@ -246,15 +257,13 @@ def _deletions(a: Analysis, pool: list[int]) -> dict[int, list[Deletion]]:
     return {i: a._parse[i] for i in pool}
 
 
-def _keyword_loss(a: Analysis, d: Deletion, pool_words: Counter) -> float:
-    """Salience of the key words the span holds that the rest of the pool does not repeat."""
-    from summarize.embed import words
-
+def _keyword_loss(a: Analysis, d: Deletion, pool_counts: dict[str, int]) -> float:
+    """Salience of the key words the span holds that the rest of the pool does not repeat
+    (a key word counts in any of the forms the source writes it in)."""
     loss = 0.0
-    for w in set(words(d.text)):
-        s = a.keyword_salience.get(w)
-        if s and pool_words[w] <= 1:
-            loss += s
+    for lemma, n in _keyword_counts(a, d.text).items():
+        if n and pool_counts.get(lemma, 0) - n <= 0:
+            loss += a.keyword_salience.get(lemma, 0.0)
     return loss
 
 
@@ -305,7 +314,8 @@ def _fill(a: Analysis, chosen: list[int], texts: dict[int, str], dropped: dict[i
     # 1. restore deleted spans, most key-word-rich first, while they fit
     restorable = sorted(
         ((d, i) for i in chosen for d in current[i]),
-        key=lambda x: -sum(a.keyword_salience.get(w, 0) for w in x[0].text.lower().split()) / max(1, x[0].words),
+        key=lambda x: -sum(a.keyword_salience.get(lemma, 0.0) * n
+                           for lemma, n in _keyword_counts(a, x[0].text).items()) / max(1, x[0].words),
     )
     for d, i in restorable:
         keep = [x for x in current[i] if x is not d]
