@@ -221,6 +221,11 @@ def _by_section(a, sim, salience, costs, budget, labels, cfg, allowed) -> list[i
     return sorted(set(rest))
 
 
+# Phrases that set where, when or under what a statement holds: deleting one that names a key
+# word can turn a true sentence into a false one, so those are never deleted.
+SCOPE_KINDS = ("leading phrase", "prepositional phrase")
+
+
 def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[Deletion]]:
     """Deletions to make in each pool sentence: cheap ones by key-word loss and fluency cost."""
     from summarize.compress import compatible
@@ -230,6 +235,8 @@ def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[
     priced = []
     for i, dels in found.items():
         for d in dels:
+            if d.kind in SCOPE_KINDS and any(_keyword_counts(a, d.text).values()):
+                continue  # "At service reservoirs, coliforms were found": the phrase is the fact's scope
             kw = _keyword_loss(a, d, pool_counts)
             flu = _fluency_cost(a, i, d)
             priced.append(((kw + flu) / max(1, d.words), kw + flu, i, d))

@@ -223,3 +223,24 @@ def test_summarize_bad_input_is_one_clear_line(tmp_path, content, message):
 def test_summarize_rejects_two_budgets():
     result = CliRunner().invoke(main, ["summarize", str(DEMO / "drought_brief.md"), "--words", "50", "--ratio", "0.1"])
     assert result.exit_code == 2 and "only one of" in result.output
+
+
+def test_scope_phrases_naming_a_key_word_are_never_deleted():
+    # "At service reservoirs, coliform bacteria were found in seven samples." loses its truth
+    # without the opening phrase; a connective or a phrase without key words may go.
+    from summarize.search import Analysis, _compress, _forms_pattern
+
+    texts = ["At service reservoirs, coliform bacteria were found in seven samples.",
+             "However, the reservoirs were cleaned, as planned, in May."]
+    a = Analysis(sentences=[], texts=texts, costs=np.array([11, 9]), complete=np.array([True, True]),
+                 quoted=np.array([False, False]), vectors=None, tfidf=None, headings={}, n_sections=0,
+                 keyword_salience={"reservoir": 0.3, "coliform": 1.0},
+                 keyword_forms={"reservoir": _forms_pattern("reservoir", ["reservoirs"]),
+                                "coliform": _forms_pattern("coliform", ["coliform"])})
+    a._parse = {0: [Deletion(0, 0, 23, "leading phrase", texts[0][:23])],
+                1: [Deletion(1, 0, 9, "connective", texts[1][:9]),
+                    Deletion(1, 36, 48, "prepositional phrase", texts[1][36:48])]}
+    a._fluency = {(0, 0, 23): 0.0, (1, 0, 9): 0.0, (1, 36, 48): 0.0}
+    kept = _compress(a, [0, 1], threshold=0.6)
+    assert kept[0] == []  # names "reservoirs": the scope stays
+    assert [d.kind for d in kept[1]] == ["connective", "prepositional phrase"]  # no key word in either
