@@ -223,7 +223,8 @@ def summarizer() -> list[str]:
     if d:
         out += [f"Budget: {d['drafts']} drafts (every recipe) over {d['documents']} documents at 50, 100, 150, "
                 f"250 and 400 words: **{d['over_budget']} over budget**, {d['under_95']} under 95% of the budget "
-                f"where the source is longer; median fill {100 * d['fill_median']:.1f}% ({when(d)}, "
+                f"where the source is longer; median fill {100 * d['fill_median']:.1f}%, lowest "
+                f"{100 * d['fill_min']:.1f}% ({when(d)}, commit {d.get('commit', 'not recorded')}, "
                 "`.venv/bin/python bench/budget_check.py`).", ""]
     return out
 
