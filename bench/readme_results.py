@@ -189,7 +189,9 @@ def ranking_and_compression() -> list[str]:
     if r:
         out += [f"Ranking agreement: on {r['stories']} SQuALITY dev stories, boildown's candidates plus LEAD and "
                 "TextRank at the same budget, ranked by boildown's combined score and by ROUGE-2 F1 against the "
-                f"human summaries: mean Kendall tau **{r['mean_kendall_tau']:.3f}** (goal above 0.3).", ""]
+                f"human summaries: mean Kendall tau **{r['mean_kendall_tau']:.3f}** (goal above 0.3"
+                + ("; **not met**: among candidates this close, the combined score and ROUGE-2 order them "
+                   "differently" if r["mean_kendall_tau"] <= 0.3 else "") + ").", ""]
     newer = load("quality_compression")
     comp = (newer or {}).get("results", {}).get("compression") or res.get("compression")
     if newer and comp:
