@@ -15,6 +15,15 @@ import pytest
 ROOT = Path(__file__).resolve().parents[1]
 SHARED_DATA = ROOT.parent / "shared" / "data"
 DEMO = ROOT / "demo_docs"
+
+# A short invented source shared by the scoring tests (the demo scenario: a fictional water board).
+MEETING = (
+    "The Harrowmere Valley Water Board met in Calderby on 12 March. Storage in Thornmoor reservoir "
+    "had fallen to 48 percent after the driest spring in forty years. The board approved a hosepipe "
+    "ban for Wenlow Cross and Ashpool, and asked the Scarrow treatment works to run its second "
+    "filter line. Engineers reported that leakage fell to 21 megalitres a day after the renewal of "
+    "twelve kilometres of cast-iron mains. The chair, Dr. Ines Korrow, thanked the crews."
+)
 TEST_DATA = ROOT / "tests" / "data"
 
 

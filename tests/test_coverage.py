@@ -8,15 +8,9 @@ import json
 import pytest
 
 from scoring.coverage import RECOVERED_GAIN, RECOVERED_SHARE, CoverageConfig, CoverageScorer, KeywordEvidence, _merge_windows
-from conftest import shared_data
+from conftest import MEETING, shared_data
 
-SOURCE = (
-    "The Harrowmere Valley Water Board met in Calderby on 12 March. Storage in Thornmoor reservoir "
-    "had fallen to 48 percent after the driest spring in forty years. The board approved a hosepipe "
-    "ban for Wenlow Cross and Ashpool, and asked the Scarrow treatment works to run its second "
-    "filter line. Engineers reported that leakage fell to 21 megalitres a day after the renewal of "
-    "twelve kilometres of cast-iron mains. The chair, Dr. Ines Korrow, thanked the crews."
-)
+SOURCE = MEETING
 GOOD = "Thornmoor reservoir fell to 48 percent, so the board approved a hosepipe ban for Wenlow Cross and Ashpool; leakage fell to 21 megalitres a day."
 UNRELATED = "A village fete raised money for the lifeboat station; the cake stall and the raffle did best."
 

@@ -9,15 +9,10 @@ import json
 import pytest
 from click.testing import CliRunner
 
+from conftest import MEETING
 from summarize.cli import main
 
-SOURCE = (
-    "The Harrowmere Valley Water Board met in Calderby on 12 March. Storage in Thornmoor reservoir "
-    "had fallen to 48 percent after the driest spring in forty years. The board approved a hosepipe "
-    "ban for Wenlow Cross and Ashpool, and asked the Scarrow treatment works to run its second "
-    "filter line. Engineers reported that leakage fell to 21 megalitres a day after the renewal of "
-    "twelve kilometres of cast-iron mains. The chair, Dr. Ines Korrow, thanked the crews."
-)
+SOURCE = MEETING
 GOOD = "The board approved a hosepipe ban for Wenlow Cross and Ashpool as Thornmoor reservoir fell to 48 percent."
 WEAK = "A meeting took place and several matters were discussed by those present."
 
