@@ -235,9 +235,10 @@ def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[
     priced = []
     for i, dels in found.items():
         for d in dels:
-            if d.kind in SCOPE_KINDS and any(_keyword_counts(a, d.text).values()):
+            held = _keyword_counts(a, d.text)
+            if d.kind in SCOPE_KINDS and any(held.values()):
                 continue  # "At service reservoirs, coliforms were found": the phrase is the fact's scope
-            kw = _keyword_loss(a, d, pool_counts)
+            kw = _keyword_loss(a, held, pool_counts)
             flu = _fluency_cost(a, i, d)
             priced.append(((kw + flu) / max(1, d.words), kw + flu, i, d))
     priced.sort(key=lambda x: x[0])
@@ -264,11 +265,11 @@ def _deletions(a: Analysis, pool: list[int]) -> dict[int, list[Deletion]]:
     return {i: a._parse[i] for i in pool}
 
 
-def _keyword_loss(a: Analysis, d: Deletion, pool_counts: dict[str, int]) -> float:
-    """Salience of the key words the span holds that the rest of the pool does not repeat
-    (a key word counts in any of the forms the source writes it in)."""
+def _keyword_loss(a: Analysis, held: dict[str, int], pool_counts: dict[str, int]) -> float:
+    """Salience of the key words a span holds (``held``: counts in any of the forms the source
+    writes them in) that the rest of the pool does not repeat."""
     loss = 0.0
-    for lemma, n in _keyword_counts(a, d.text).items():
+    for lemma, n in held.items():
         if n and pool_counts.get(lemma, 0) - n <= 0:
             loss += a.keyword_salience.get(lemma, 0.0)
     return loss
