@@ -169,6 +169,16 @@ def quality() -> list[str]:
             name = f"**{system}**" if system == "boildown" else system
             out.append(f"| {name} | {row['rouge1']:.2f} | {row['rouge2']:.2f} | {row['rougeLsum']:.2f} | "
                        f"{row['coverage']:.1f}% | {row['fluency']:.3f} |")
+        table = block["table"]
+        behind = [f"{t.replace('rouge', 'ROUGE-')} ({table['boildown'][t]:.2f} against {b} {table[b][t]:.2f})"
+                  for t in ("rouge1", "rouge2", "rougeLsum")
+                  for b in [max(("lead", "textrank", "lexrank"), key=lambda k: table[k][t])]
+                  if table["boildown"][t] < table[b][t]]
+        out += ["", "boildown is ahead of every baseline on " + (
+            "every ROUGE measure" if not behind else "the other ROUGE measures") + (
+            " and on coverage" if all(table["boildown"]["coverage"] > table[b]["coverage"]
+                                      for b in ("lead", "textrank", "lexrank")) else "") + (
+            "" if not behind else "; **behind** on " + ", ".join(behind)) + "."]
         gap = block["share_of_gap_closed"]
         out += ["", f"Share of the gap from the best baseline ({block['best_baseline']}, by ROUGE-2) to the oracle "
                 "closed: " + ", ".join(f"{t.replace('rouge', 'ROUGE-')} {100 * v:.0f}%" for t, v in gap.items())
