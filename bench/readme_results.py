@@ -261,6 +261,15 @@ def batch() -> list[str]:
         out.append(f"| {labels.get(key, key)} | {v['workers']} | {v['docs_per_minute']:.2f} |")
     if d.get("note_contended"):
         out += ["", d["note_contended"]]
+    if {"local1", "local2"} <= r.keys():
+        out += ["", f"Two workers run {r['local2']['docs_per_minute'] / r['local1']['docs_per_minute']:.2f}x as fast as "
+                "one: a single worker already uses both cores for the model arithmetic (2 threads), two "
+                f"workers get one thread each (median {r['local1']['median_summarize_s']:.1f} s per document "
+                f"with one worker, {r['local2']['median_summarize_s']:.1f} s with two)."]
+    if "dask" in r and "local2" in r and r["dask"]["docs_per_minute"] < r["local2"]["docs_per_minute"]:
+        out += ["", f"Through Dask the same two single-threaded workers are slower (median "
+                f"{r['dask']['median_summarize_s']:.1f} s per document): the cause is not found yet. Dask is "
+                "there to spread a run over several machines, not to speed up one."]
     return out + [""]
 
 
