@@ -23,15 +23,23 @@ def load(name: str) -> dict | None:
     return json.loads(path.read_text()) if path.exists() else None
 
 
+def section_start(name: str, title: str, command: str) -> tuple[dict | None, list[str]]:
+    """A results file and the section's opening lines; a "not yet run" line when the file is absent."""
+    d = load(name)
+    out = [f"### {title}", ""]
+    if not d:
+        out += [f"Not yet run: `.venv/bin/python {command}`.", ""]
+    return d, out
+
+
 def when(d: dict) -> str:
     return f"measured {d['when'][:16]}"
 
 
 def coverage_validity() -> list[str]:
-    d = load("coverage_validity")
-    out = ["### Coverage against human judgements (REALSumm)", ""]
+    d, out = section_start("coverage_validity", "Coverage against human judgements (REALSumm)", "bench/coverage_validity.py")
     if not d:
-        return out + ["Not yet run: `.venv/bin/python bench/coverage_validity.py`.", ""]
+        return out
     t = d["tau"]
     out += [
         f"Each of the {d['documents']} REALSumm reference summaries is treated as the source and each system "
@@ -58,10 +66,9 @@ def coverage_validity() -> list[str]:
 
 
 def coverage_speed() -> list[str]:
-    d = load("coverage_speed")
-    out = ["### Coverage speed", ""]
+    d, out = section_start("coverage_speed", "Coverage speed", "bench/coverage_speed.py")
     if not d:
-        return out + ["Not yet run: `.venv/bin/python bench/coverage_speed.py`.", ""]
+        return out
     b = d["by_length"]
     out += [
         f"A 150-word summary, models loaded, {d['threads']} threads, medians of repeated runs ({when(d)}, "
@@ -86,10 +93,9 @@ def coverage_speed() -> list[str]:
 
 
 def keyword_states() -> list[str]:
-    d = load("keyword_states")
-    out = ["### Key-word states against containment", ""]
+    d, out = section_start("keyword_states", "Key-word states against containment", "bench/keyword_states.py")
     if not d:
-        return out + ["Not yet run: `.venv/bin/python bench/keyword_states.py`.", ""]
+        return out
     out += [
         "How often a key word marked *recovered* is actually in the summary (precision), and how many "
         "of the key words a summary contains are marked recovered (recall), for the rule in use "
@@ -187,10 +193,9 @@ def quality() -> list[str]:
 
 
 def ranking_and_compression() -> list[str]:
-    d = load("quality_ranking")
-    out = ["### Reference-free ranking and compression", ""]
+    d, out = section_start("quality_ranking", "Reference-free ranking and compression", "bench/quality.py --parts ranking,compression")
     if not d:
-        return out + ["Not yet run: `.venv/bin/python bench/quality.py --parts ranking,compression`.", ""]
+        return out
     res = d["results"]
     limit = d.get("limit")
     cmd = "`.venv/bin/python bench/quality.py --parts ranking,compression --name quality_ranking" + (
@@ -247,10 +252,9 @@ def summarizer() -> list[str]:
 
 
 def batch() -> list[str]:
-    d = load("batch_speed")
-    out = ["### Batch throughput", ""]
+    d, out = section_start("batch_speed", "Batch throughput", "bench/batch_speed.py")
     if not d:
-        return out + ["Not yet run: `.venv/bin/python bench/batch_speed.py`.", ""]
+        return out
     r = d["results"]
     out += [f"{len(d['documents'])} demo documents, {d['settings']['words']} words, {d['settings']['candidates']} "
             f"candidates ({when(d)}, `.venv/bin/python bench/batch_speed.py`); wall time includes starting "
