@@ -114,7 +114,7 @@ def run_ranking(evaluator, candidates: int, limit: int | None):
             taus.append(tau)
         evidence.append({"story": ex.id, "tau": tau, "candidates": [
             {"name": c.name, "combined": c.combined, "coverage": c.coverage.share, "fluency": c.fluency.value,
-             "words": c.words, "rouge2": r2} for c, r2 in zip(ranked, theirs)]})
+             "words": c.words, "rouge2": r2, "text": c.text} for c, r2 in zip(ranked, theirs)]})
         print(f"\rranking: {n}/{len(stories)} stories, mean tau {statistics.mean(taus) if taus else float('nan'):.3f}",
               end="", file=sys.stderr)
     print(file=sys.stderr)

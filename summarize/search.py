@@ -2,15 +2,21 @@
 compression differently, fit each to the word budget exactly, score them all, rank them.
 
 Per candidate ("recipe"):
-1. select sentences (``extract``) greedily under 1.4x the budget, giving a ranked pool;
-2. find deletable spans in the pool (``compress``) and price each: its key-word loss
-   (salience of the source's key words it would remove and that appear nowhere else in the
-   pool) and its fluency cost (how much the causal model's mean token log-probability of the
-   sentence falls without it); deletions cheaper per word than the recipe's threshold are made;
-3. select again from the compressed pool under the real budget;
-4. fill: restore deleted spans, most valuable first, while they fit; if the summary is still
-   under 95% of the budget, add the best compressed sentence that fits, and as a last resort
-   the best remaining sentence cut at a word boundary and marked with an ellipsis.
+1. select sentences (``extract``) under the budget;
+2. spend the words left on sentences that name key words the summary lacks (most new key-word
+   salience per word first), then on the selection objective's next picks, then ``_fill``:
+   this is the uncompressed draft;
+3. compression (when the recipe asks for it): find deletable spans in the chosen sentences
+   (``compress``) and make the ones that cost the causal model least fluency per word saved
+   (mean token log-probability of the sentence with and without the span, at most the recipe's
+   threshold in nats per word), never one that takes the last mention of a key word out of the
+   summary, nor a scope phrase that names one; spend the freed words as in step 2, twice
+   (the second round compresses what the first added);
+4. keep the compressed draft only if it names key words of more total salience than the
+   uncompressed one: deletions are there to buy room for content, not for their own sake.
+``_fill`` restores deleted spans, most key-word-rich first, while they fit; if the summary is
+still under 95% of the budget, it adds the best sentence that fits, and as a last resort the
+best remaining sentence cut at a clause or word boundary and marked with an ellipsis.
 Every candidate is then scored by ``scoring.evaluate`` and the best is returned.
 """
 
@@ -28,6 +34,9 @@ from summarize.compress import Deletion
 from summarize.recipes import RECIPES, ExtractConfig, Recipe  # noqa: F401 (re-exported)
 
 FILL_TARGET = 0.95
+# deletion-and-refill rounds (the second compresses the sentences the first round added)
+COMPRESS_ROUNDS = 2
+KEYWORD_SCALE_POWER = 0.3
 
 
 @dataclass(frozen=True)
@@ -161,7 +170,7 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
     salience = pagerank(sim, cfg.damping) * prior * np.where(a.quoted, cfg.quote_weight, 1.0)
     k = max(1, int(round(cfg.cluster_share * len(a.texts))))
     labels = _clusters(a, k)
-    pool_budget = int(budget * 1.4) + 10
+    from summarize.compress import apply
 
     def choose(costs, limit, allowed):
         if recipe.method == "mmr":
@@ -171,22 +180,77 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
             return _by_section(a, sim, salience, costs, limit, labels, cfg, allowed)
         return select(sim, salience, costs, limit, labels, cfg, eligible=allowed)
 
-    pool = choose(a.costs, pool_budget, eligible)
-    texts = {i: a.texts[i] for i in pool}
-    dropped: dict[int, list[Deletion]] = {i: [] for i in pool}
-    if recipe.compress > 0 and pool:
-        dropped = _compress(a, pool, recipe.compress)
-        from summarize.compress import apply
+    off = _assemble(a, choose(a.costs, budget, eligible), {}, {}, budget, salience, eligible, sim, labels, cfg)
+    if recipe.compress <= 0 or not off.sentences:
+        return replace(off, recipe=recipe.name)
+    chosen = choose(a.costs, budget, eligible)
+    texts: dict[int, str] = {}
+    dropped: dict[int, list[Deletion]] = {}
+    for _ in range(COMPRESS_ROUNDS):
+        dropped = _compress(a, chosen, recipe.compress)
+        texts = {i: apply(a.texts[i], dropped[i]) if dropped[i] else a.texts[i] for i in chosen}
+        costs = _costs(a, texts)
+        chosen = _add_keywords(a, chosen, texts, costs, budget, eligible)
+    on = _assemble(a, chosen, texts, dropped, budget, salience, eligible, sim, labels, cfg)
+    # compression earns its place only by letting the summary name key words it would miss
+    better = _keyword_mass(a, on.text) > _keyword_mass(a, off.text) + 1e-9
+    return replace(on if better else off, recipe=recipe.name)
 
-        texts = {i: apply(a.texts[i], dropped[i]) if dropped[i] else a.texts[i] for i in pool}
+
+def _costs(a: Analysis, texts: dict[int, str]) -> np.ndarray:
     costs = a.costs.copy().astype(float)
-    for i in pool:
-        costs[i] = max(1, len(texts[i].split()))
-    allowed = np.zeros(len(a.texts), dtype=bool)
-    allowed[pool] = True
-    chosen = choose(costs, budget, allowed & eligible) if pool else []
-    draft = _fill(a, chosen, texts, dropped, budget, salience, eligible)
-    return replace(draft, recipe=recipe.name)
+    for i, t in texts.items():
+        costs[i] = max(1, len(t.split()))
+    return costs
+
+
+def _assemble(a, chosen, texts, dropped, budget, salience, eligible, sim, labels, cfg) -> Draft:
+    """Spend the words left after ``chosen``: sentences that name missing key words first, then
+    the selection objective's next picks, then ``_fill``."""
+    from summarize.extract import select
+
+    costs = _costs(a, texts)
+    chosen = _add_keywords(a, list(chosen), texts, costs, budget, eligible)
+    chosen = select(sim, salience, costs, budget, labels, cfg, start=chosen, eligible=eligible)
+    return _fill(a, chosen, texts, dropped, budget, salience, eligible)
+
+
+def _keyword_mass(a: Analysis, text: str) -> float:
+    """Salience of the distinct key words a text names (in any form the source writes them)."""
+    return sum(a.keyword_salience.get(lemma, 0.0) for lemma, n in _keyword_counts(a, text).items() if n)
+
+
+def _add_keywords(a: Analysis, chosen: list[int], texts: dict[int, str], costs: np.ndarray, budget: int,
+                  eligible: np.ndarray) -> list[int]:
+    """Add sentences that fit the words left and name key words the summary lacks, the most new
+    key-word salience per word (cost-scaled as in ``select``) first."""
+    chosen = list(chosen)
+    present = {lemma for lemma, n in _keyword_counts(a, "\n".join(texts.get(i, a.texts[i]) for i in chosen)).items() if n}
+    used = float(sum(costs[i] for i in chosen))
+    while True:
+        room = budget - used
+        fits = np.flatnonzero(eligible & (costs <= room))
+        best, best_value = None, 0.0
+        for j in fits:
+            if j in chosen:
+                continue
+            gain = sum(a.keyword_salience[lemma] for lemma in _named(a, int(j)) if lemma not in present)
+            value = gain / costs[j] ** KEYWORD_SCALE_POWER
+            if value > best_value:
+                best, best_value = int(j), value
+        if best is None:
+            return sorted(chosen)
+        chosen.append(best)
+        used += costs[best]
+        present |= _named(a, best)
+
+
+def _named(a: Analysis, i: int) -> frozenset:
+    """The key words source sentence i names (cached per analysis)."""
+    key = ("named", i)
+    if key not in a._sim:
+        a._sim[key] = frozenset(lemma for lemma, n in _keyword_counts(a, a.texts[i]).items() if n)
+    return a._sim[key]
 
 
 def _clusters(a: Analysis, k: int) -> np.ndarray:
@@ -226,29 +290,34 @@ def _by_section(a, sim, salience, costs, budget, labels, cfg, allowed) -> list[i
 SCOPE_KINDS = ("leading phrase", "prepositional phrase")
 
 
-def _compress(a: Analysis, pool: list[int], threshold: float) -> dict[int, list[Deletion]]:
-    """Deletions to make in each pool sentence: cheap ones by key-word loss and fluency cost."""
+def _compress(a: Analysis, chosen: list[int], threshold: float) -> dict[int, list[Deletion]]:
+    """Deletions to make in the chosen sentences: the ones that cost the causal model least
+    fluency per word saved (at most ``threshold`` nats per word), and never one that would take
+    the last mention of a key word out of the summary."""
     from summarize.compress import compatible
 
-    found = _deletions(a, pool)
-    pool_counts = _keyword_counts(a, "\n".join(a.texts[i] for i in pool))
+    found = _deletions(a, chosen)
+    counts = _keyword_counts(a, "\n".join(a.texts[i] for i in chosen))
     priced = []
     for i, dels in found.items():
         for d in dels:
             held = _keyword_counts(a, d.text)
             if d.kind in SCOPE_KINDS and any(held.values()):
                 continue  # "At service reservoirs, coliforms were found": the phrase is the fact's scope
-            kw = _keyword_loss(a, held, pool_counts)
-            flu = _fluency_cost(a, i, d)
-            priced.append(((kw + flu) / max(1, d.words), kw + flu, i, d))
+            if _keyword_loss(a, held, counts):
+                continue
+            priced.append((_fluency_cost(a, i, d) / max(1, d.words), i, d, held))
     priced.sort(key=lambda x: x[0])
-    out: dict[int, list[Deletion]] = {i: [] for i in pool}
-    for per_word, _cost, i, d in priced:
+    out: dict[int, list[Deletion]] = {i: [] for i in chosen}
+    for per_word, i, d, held in priced:
         if per_word > threshold:
             break
         trial = out[i] + [d]
-        if compatible(trial) and sum(x.words for x in trial) < 0.7 * a.costs[i]:
+        # a key word another deletion already left only here stays
+        if compatible(trial) and sum(x.words for x in trial) < 0.7 * a.costs[i] and not _keyword_loss(a, held, counts):
             out[i] = trial
+            for lemma, n in held.items():
+                counts[lemma] = counts.get(lemma, 0) - n
     return out
 
 
@@ -265,12 +334,12 @@ def _deletions(a: Analysis, pool: list[int]) -> dict[int, list[Deletion]]:
     return {i: a._parse[i] for i in pool}
 
 
-def _keyword_loss(a: Analysis, held: dict[str, int], pool_counts: dict[str, int]) -> float:
+def _keyword_loss(a: Analysis, held: dict[str, int], counts: dict[str, int]) -> float:
     """Salience of the key words a span holds (``held``: counts in any of the forms the source
-    writes them in) that the rest of the pool does not repeat."""
+    writes them in) that the rest of the summary (``counts``) does not repeat."""
     loss = 0.0
     for lemma, n in held.items():
-        if n and pool_counts.get(lemma, 0) - n <= 0:
+        if n and counts.get(lemma, 0) - n <= 0:
             loss += a.keyword_salience.get(lemma, 0.0)
     return loss
 
