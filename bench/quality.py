@@ -149,7 +149,10 @@ def run_compression(examples, evaluator):
     ties = sum(a == b for a, b in zip(on_cov, off_cov))
     return {"documents": len(on_cov), "coverage_on": 100 * statistics.mean(on_cov), "coverage_off": 100 * statistics.mean(off_cov),
             "coverage_higher_with_compression": wins, "identical": ties,
-            "fluency_on": statistics.mean(on_flu), "fluency_off": statistics.mean(off_flu)}
+            "fluency_on": statistics.mean(on_flu), "fluency_off": statistics.mean(off_flu),
+            "fluency_lower_by_over_0_05": sum(b - a > 0.05 for a, b in zip(on_flu, off_flu)),
+            "per_document": [{"coverage_on": a, "coverage_off": b, "fluency_on": c, "fluency_off": d}
+                             for a, b, c, d in zip(on_cov, off_cov, on_flu, off_flu)]}
 
 
 def main(argv=None):
