@@ -212,7 +212,8 @@ def main(argv=None):
 
 def checkpoint(args, results: dict) -> Path:
     """Write what is done so far (parts already in the file from earlier runs are kept)."""
-    return save(args.name, {"limit": args.limit, "candidates": args.candidates, "commit": COMMIT or None,
+    return save(args.name, {"limit": args.limit, "compression_limit": args.compression_limit,
+                            "candidates": args.candidates, "commit": COMMIT or None,
                             "results": results})
 
 
