@@ -244,3 +244,51 @@ def test_scope_phrases_naming_a_key_word_are_never_deleted():
     kept = _compress(a, [0, 1], threshold=0.6)
     assert kept[0] == []  # names "reservoirs": the scope stays
     assert [d.kind for d in kept[1]] == ["connective", "prepositional phrase"]  # no key word in either
+
+
+def _toy_analysis(texts, salience, forms):
+    from summarize.search import Analysis, _forms_pattern
+
+    return Analysis(sentences=[], texts=texts, costs=np.array([len(t.split()) for t in texts]),
+                    complete=np.ones(len(texts), dtype=bool), quoted=np.zeros(len(texts), dtype=bool),
+                    vectors=None, tfidf=None, headings={}, n_sections=0, keyword_salience=salience,
+                    keyword_forms={k: _forms_pattern(k, v) for k, v in forms.items()})
+
+
+def test_compression_never_removes_the_last_mention_of_a_key_word():
+    # The appositive names "Tarrow" and "basin"; "basin" is repeated in sentence 1, "Tarrow" is
+    # not, so the appositive stays even though it reads fine without it. The parenthetical holds
+    # no key word and goes.
+    from summarize.search import _compress
+
+    texts = ["The survey, led by Tarrow in the upper basin, found low nitrate (about 2 mg/L) in wells.",
+             "Wells in the basin were sampled twice."]
+    a = _toy_analysis(texts, {"tarrow": 1.0, "basin": 0.5, "nitrate": 0.8},
+                      {"tarrow": ["Tarrow"], "basin": ["basin"], "nitrate": ["nitrate"]})
+    appositive = texts[0].index(", led by")
+    paren = texts[0].index(" (about")
+    a._parse = {0: [Deletion(0, appositive, texts[0].index(", found"), "appositive", texts[0][appositive:texts[0].index(", found")]),
+                    Deletion(0, paren, texts[0].index(" in wells"), "parenthetical", texts[0][paren:texts[0].index(" in wells")])],
+                1: []}
+    a._fluency = {(0, d.start, d.end): 0.0 for d in a._parse[0]}
+    kept = _compress(a, [0, 1], threshold=0.6)
+    assert [d.kind for d in kept[0]] == ["parenthetical"]
+
+
+def test_freed_words_go_to_a_sentence_naming_missing_key_words():
+    # Room for one more 5-word sentence: the one naming the missing key word "Orlin" (salience
+    # 0.9) beats one that repeats a key word already present and one that names none.
+    from summarize.search import _add_keywords, _keyword_mass
+
+    texts = ["The Orvale reservoir was drained in spring.",  # 7 words, chosen
+             "Orvale reservoir levels rose again.",  # repeats present key words
+             "Crews inspected the Orlin weir.",  # names the missing "orlin"
+             "Nothing else happened that week."]
+    a = _toy_analysis(texts, {"orvale": 1.0, "reservoir": 0.6, "orlin": 0.9},
+                      {"orvale": ["Orvale"], "reservoir": ["reservoir"], "orlin": ["Orlin"]})
+    costs = a.costs.astype(float)
+    chosen = _add_keywords(a, [0], {}, costs, budget=12, eligible=np.ones(4, dtype=bool))
+    assert chosen == [0, 2]
+    # the mass the acceptance rule compares: distinct key words' salience, any form
+    assert _keyword_mass(a, " ".join(texts[i] for i in chosen)) == pytest.approx(2.5)
+    assert _keyword_mass(a, texts[0] + " " + texts[1]) == pytest.approx(1.6)
