@@ -153,7 +153,8 @@ def summarize(
             say(f"building candidate {n}/{len(recipes)} ({recipe.name})")
             drafts.append(build(analysis, recipe, budget))
         drafts = distinct(drafts)
-        extra = variants()
+        # duplicates: the named recipes not yet tried, then the variants
+        extra = iter([*RECIPES[wanted:], *variants()])
         for _ in range(3 * wanted):
             if len(drafts) >= wanted:
                 break
