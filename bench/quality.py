@@ -13,6 +13,9 @@
    (the first 20 documents of each set by default).
 
     .venv/bin/python bench/quality.py [--limit N] [--parts main,ranking,compression] [--name quality]
+
+(``--parts ranking-context`` recomputes the figures that put the ranking agreement in context
+from the candidates saved by an earlier ranking run, without re-running it.)
 """
 
 from __future__ import annotations
@@ -118,12 +121,49 @@ def run_ranking(evaluator, candidates: int, limit: int | None):
         print(f"\rranking: {n}/{len(stories)} stories, mean tau {statistics.mean(taus) if taus else float('nan'):.3f}",
               end="", file=sys.stderr)
     print(file=sys.stderr)
-    coverage_only = [kendall([c["coverage"] for c in e["candidates"]], [c["rouge2"] for c in e["candidates"]])
-                     for e in evidence]
-    coverage_only = [t for t in coverage_only if t == t]
-    return {"stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus,
-            "mean_kendall_tau_coverage_alone": statistics.mean(coverage_only) if coverage_only else None,
-            "evidence": evidence}
+    out = {"stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus, "evidence": evidence}
+    out.update(ranking_context(out))
+    return out
+
+
+def ranking_context(block: dict) -> dict:
+    """What the agreement figure should be read against, from the saved evidence alone:
+    - coverage alone, and boildown's own candidates alone (without LEAD and TextRank);
+    - the same agreement between people: ROUGE-2 against one human summary vs against the other
+      three, over the same candidates (how far one reference's ranking is from the rest)."""
+    from rouge_score.rouge_scorer import RougeScorer
+
+    from summarize.segment import split_sentences
+
+    def mean_tau(pairs):
+        taus = [t for t in (kendall(a, b) for a, b in pairs) if t == t]
+        return statistics.mean(taus) if taus else None
+
+    ev = block["evidence"]
+    out = {
+        "mean_kendall_tau_coverage_alone": mean_tau(
+            ([c["coverage"] for c in e["candidates"]], [c["rouge2"] for c in e["candidates"]]) for e in ev),
+        "mean_kendall_tau_boildown_candidates_only": mean_tau(
+            ([c["combined"] for c in e["candidates"] if c["name"].startswith("boildown")],
+             [c["rouge2"] for c in e["candidates"] if c["name"].startswith("boildown")]) for e in ev),
+        "mean_kendall_tau_without_lead": mean_tau(
+            ([c["combined"] for c in e["candidates"] if c["name"] != "lead"],
+             [c["rouge2"] for c in e["candidates"] if c["name"] != "lead"]) for e in ev),
+    }
+    if not all("text" in c for e in ev for c in e["candidates"]):
+        return out
+    rouge = RougeScorer(["rouge2"], use_stemmer=True)
+    refs_of = {ex.id: ["\n".join(split_sentences(r)) for r in ex.references] for ex in data.squality("dev")}
+    pairs = []
+    for e in ev:
+        refs = refs_of[e["story"]]
+        cands = ["\n".join(split_sentences(c["text"])) for c in e["candidates"]]
+        for k in range(len(refs)):
+            others = [r for j, r in enumerate(refs) if j != k]
+            pairs.append(([rouge.score(refs[k], c)["rouge2"].fmeasure for c in cands],
+                          [rouge.score_multi(others, c)["rouge2"].fmeasure for c in cands]))
+    out["mean_kendall_tau_one_reference_vs_the_others"] = mean_tau(pairs)
+    return out
 
 
 def run_compression(examples, evaluator):
@@ -198,6 +238,9 @@ def main(argv=None):
     if "ranking" in parts:
         results["ranking_squality_dev"] = run_ranking(evaluator, args.candidates, args.limit)
         print(f"\nranking agreement (SQuALITY dev): mean Kendall tau {results['ranking_squality_dev']['mean_kendall_tau']:.3f}")
+        checkpoint(args, results)
+    if "ranking-context" in parts and "ranking" not in parts:  # recompute the context from saved evidence
+        results["ranking_squality_dev"].update(ranking_context(results["ranking_squality_dev"]))
         checkpoint(args, results)
     if "compression" in parts:
         results["compression"] = {
