@@ -72,6 +72,7 @@ class Analysis:
     costs: np.ndarray
     complete: np.ndarray  # ends like a sentence (not a heading, contents line or table cell)
     quoted: np.ndarray  # mostly quoted speech (dialogue)
+    points_back: np.ndarray  # opens with a back reference ("It was found...", "This means...")
     vectors: np.ndarray
     tfidf: np.ndarray
     headings: dict[int, str]
@@ -113,7 +114,8 @@ def analyse(document, keywords: int = 40, progress: Callable[[str], None] | None
     costs = np.array([max(1, len(t.split())) for t in texts])
     complete = np.array([_complete(t) for t in texts], dtype=bool)
     quoted = np.array([_quoted(t) for t in texts], dtype=bool)
-    return Analysis(sentences, texts, costs, complete, quoted, vectors, tfidf(texts), headings, section, salience,
+    points_back = np.array([bool(_BACK_REFERENCE.match(t)) for t in texts], dtype=bool)
+    return Analysis(sentences, texts, costs, complete, quoted, points_back, vectors, tfidf(texts), headings, section, salience,
                     keyword_forms=forms)
 
 
@@ -140,6 +142,21 @@ def _quoted(text: str) -> bool:
     return inside * 2 >= max(1, len(t.split()))
 
 
+# A sentence opening with a word that points back ("It was found once...", "This is the main
+# cause...") reads as a dangling reference without the sentence before it. Keeping such openers
+# out unless their predecessor is in the summary is common practice in extractive summarizing
+# (a rule of thumb, not tuned here).
+# Personal pronouns (he, she, they) are left out of the rule: in narratives they usually name the
+# story's main characters, and excluding them would exclude most of the story.
+_BACK_REFERENCE = re.compile(r"^\W*(?:it|its|this|these|those|that|such|both|the latter|the former)\b(?!\s+(?:is|was)\s+(?:not\s+)?(?:clear|likely|possible|important|necessary|known|expected|estimated|thought|believed)\b)",
+                             re.IGNORECASE)
+
+
+def _points_back(a: "Analysis", j: int, chosen) -> bool:
+    """Sentence j opens with a back reference and the sentence before it is not chosen."""
+    return bool(_BACK_REFERENCE.match(a.texts[j])) and (j - 1) not in chosen
+
+
 _ENDINGS = (".", "!", "?", '."', '?"', '!"', ".\u201d", ".)", ".'")
 
 
@@ -163,8 +180,8 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
     cfg = recipe.extract
     sim = a.sim(cfg.embed_weight)
     sized = (a.costs >= cfg.min_words) & (a.costs <= max(cfg.max_words, budget // 2))
-    eligible = sized & a.complete
-    if a.costs[eligible].sum() < budget:  # too few full sentences (e.g. unpunctuated text)
+    eligible = sized & a.complete & ~a.points_back
+    if a.costs[eligible].sum() < budget:  # too few full, self-contained sentences (e.g. unpunctuated text)
         eligible = sized if a.costs[sized].sum() >= budget else a.costs >= 1
     prior = priors(a.sentences, a.n_sections, a.headings, cfg)
     salience = pagerank(sim, cfg.damping) * prior * np.where(a.quoted, cfg.quote_weight, 1.0)
@@ -232,7 +249,7 @@ def _add_keywords(a: Analysis, chosen: list[int], texts: dict[int, str], costs: 
         fits = np.flatnonzero(eligible & (costs <= room))
         best, best_value = None, 0.0
         for j in fits:
-            if j in chosen:
+            if j in chosen or _points_back(a, int(j), chosen):
                 continue
             gain = sum(a.keyword_salience[lemma] for lemma in _named(a, int(j)) if lemma not in present)
             value = gain / costs[j] ** KEYWORD_SCALE_POWER

@@ -44,6 +44,21 @@ def test_cut_keeps_a_clause_when_it_can(words, room, expected):
     assert out == expected and count_words(out) <= room
 
 
+@pytest.mark.parametrize("text, points_back", [
+    ("It was found once in a sample from the reservoir.", True),
+    ("This is the main cause of discoloured water.", True),
+    ("Such failures are rare.", True),
+    ("It is likely that levels will fall.", False),  # "it" that points at what follows
+    ("He opened the airlock and stepped out.", False),  # narrative pronouns are left alone
+    ("The board met in May.", False),
+    ("Items were logged twice.", False),  # "It" inside a word
+])
+def test_back_reference_rule(text, points_back):
+    from summarize.search import _BACK_REFERENCE
+
+    assert bool(_BACK_REFERENCE.match(text)) is points_back
+
+
 @pytest.mark.parametrize("text, ok", [
     ("The board approved the plan.", True), ("Summary of key findings", False), ("Lead: 7", False),
     ("HOW WE MONITOR WATER.", False), ('He said "stop."', True),
@@ -233,7 +248,7 @@ def test_scope_phrases_naming_a_key_word_are_never_deleted():
     texts = ["At service reservoirs, coliform bacteria were found in seven samples.",
              "However, the reservoirs were cleaned, as planned, in May."]
     a = Analysis(sentences=[], texts=texts, costs=np.array([11, 9]), complete=np.array([True, True]),
-                 quoted=np.array([False, False]), vectors=None, tfidf=None, headings={}, n_sections=0,
+                 quoted=np.array([False, False]), points_back=np.array([False, False]), vectors=None, tfidf=None, headings={}, n_sections=0,
                  keyword_salience={"reservoir": 0.3, "coliform": 1.0},
                  keyword_forms={"reservoir": _forms_pattern("reservoir", ["reservoirs"]),
                                 "coliform": _forms_pattern("coliform", ["coliform"])})
@@ -251,7 +266,7 @@ def _toy_analysis(texts, salience, forms):
 
     return Analysis(sentences=[], texts=texts, costs=np.array([len(t.split()) for t in texts]),
                     complete=np.ones(len(texts), dtype=bool), quoted=np.zeros(len(texts), dtype=bool),
-                    vectors=None, tfidf=None, headings={}, n_sections=0, keyword_salience=salience,
+                    points_back=np.zeros(len(texts), dtype=bool), vectors=None, tfidf=None, headings={}, n_sections=0, keyword_salience=salience,
                     keyword_forms={k: _forms_pattern(k, v) for k, v in forms.items()})
 
 
@@ -292,3 +307,20 @@ def test_freed_words_go_to_a_sentence_naming_missing_key_words():
     # the mass the acceptance rule compares: distinct key words' salience, any form
     assert _keyword_mass(a, " ".join(texts[i] for i in chosen)) == pytest.approx(2.5)
     assert _keyword_mass(a, texts[0] + " " + texts[1]) == pytest.approx(1.6)
+
+
+def test_key_word_refill_skips_a_sentence_that_points_back():
+    # "It was found once at Orlin weir." names the missing key word but its "It" needs the
+    # sentence before; without that sentence the refill takes the self-contained one instead.
+    from summarize.search import _add_keywords
+
+    texts = ["The Orvale reservoir was drained in spring.",
+             "Coliform bacteria were rare this year.",
+             "It was found once at Orlin weir.",
+             "Crews inspected the Orlin sluice gates on the far bank."]  # 10 words
+    a = _toy_analysis(texts, {"orvale": 1.0, "orlin": 0.9}, {"orvale": ["Orvale"], "orlin": ["Orlin"]})
+    costs = a.costs.astype(float)
+    # room for either: the self-contained sentence, though longer
+    assert _add_keywords(a, [0], {}, costs, budget=17, eligible=np.ones(4, dtype=bool)) == [0, 3]
+    # with its predecessor chosen, the back reference resolves (and only it fits the 8 words left)
+    assert _add_keywords(a, [0, 1], {}, costs, budget=21, eligible=np.ones(4, dtype=bool)) == [0, 1, 2]
