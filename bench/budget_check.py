@@ -18,7 +18,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from bench import data  # noqa: E402
 from bench.common import DATA, ROOT, save  # noqa: E402
-from bench.quality import document_of  # noqa: E402
+from bench.quality import COMMIT, document_of  # noqa: E402  (COMMIT: checked out when the run started)
 
 BUDGETS = (50, 100, 150, 250, 400)
 
@@ -77,7 +77,8 @@ def main(argv=None):
           f"{DEFAULT_CANDIDATES} recipes = {checks} drafts: {over} over budget, {under} under 95% filled; "
           f"fill median {100 * fills[len(fills) // 2]:.1f}%, minimum {100 * fills[0]:.1f}%")
     out = save("budget_check", {"documents": len(docs), "drafts": checks, "over_budget": over, "under_95": under,
-                                "fill_median": fills[len(fills) // 2], "fill_min": fills[0], "failures": failures[:50]})
+                                "fill_median": fills[len(fills) // 2], "fill_min": fills[0], "failures": failures[:50],
+                                "commit": COMMIT or None})
     print(f"written {out}")
     if over or under:
         sys.exit(1)
