@@ -154,7 +154,7 @@ _BACK_REFERENCE = re.compile(r"^\W*(?:it|its|this|these|those|that|such|both|the
 
 def _points_back(a: "Analysis", j: int, chosen) -> bool:
     """Sentence j opens with a back reference and the sentence before it is not chosen."""
-    return bool(_BACK_REFERENCE.match(a.texts[j])) and (j - 1) not in chosen
+    return bool(a.points_back[j]) and (j - 1) not in chosen
 
 
 _ENDINGS = (".", "!", "?", '."', '?"', '!"', ".\u201d", ".)", ".'")
@@ -197,10 +197,10 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
             return _by_section(a, sim, salience, costs, limit, labels, cfg, allowed)
         return select(sim, salience, costs, limit, labels, cfg, eligible=allowed)
 
-    off = _assemble(a, choose(a.costs, budget, eligible), {}, {}, budget, salience, eligible, sim, labels, cfg)
+    chosen = choose(a.costs, budget, eligible)
+    off = _assemble(a, chosen, {}, {}, budget, salience, eligible, sim, labels, cfg)
     if recipe.compress <= 0 or not off.sentences:
         return replace(off, recipe=recipe.name)
-    chosen = choose(a.costs, budget, eligible)
     texts: dict[int, str] = {}
     dropped: dict[int, list[Deletion]] = {}
     for _ in range(COMPRESS_ROUNDS):

@@ -262,11 +262,11 @@ def test_scope_phrases_naming_a_key_word_are_never_deleted():
 
 
 def _toy_analysis(texts, salience, forms):
-    from summarize.search import Analysis, _forms_pattern
+    from summarize.search import _BACK_REFERENCE, Analysis, _forms_pattern
 
     return Analysis(sentences=[], texts=texts, costs=np.array([len(t.split()) for t in texts]),
                     complete=np.ones(len(texts), dtype=bool), quoted=np.zeros(len(texts), dtype=bool),
-                    points_back=np.zeros(len(texts), dtype=bool), vectors=None, tfidf=None, headings={}, n_sections=0, keyword_salience=salience,
+                    points_back=np.array([bool(_BACK_REFERENCE.match(t)) for t in texts], dtype=bool), vectors=None, tfidf=None, headings={}, n_sections=0, keyword_salience=salience,
                     keyword_forms={k: _forms_pattern(k, v) for k, v in forms.items()})
 
 
