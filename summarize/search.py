@@ -82,6 +82,7 @@ class Analysis:
     _sim: dict = field(default_factory=dict)
     _parse: dict = field(default_factory=dict)
     _fluency: dict = field(default_factory=dict)
+    _named: dict = field(default_factory=dict)  # sentence index -> the key words it names
 
     def sim(self, embed_weight: float) -> np.ndarray:
         from summarize.extract import similarity
@@ -143,8 +144,9 @@ def _quoted(text: str) -> bool:
 
 
 # A sentence opening with a word that points back ("It was found once...", "This is the main
-# cause...") reads as a dangling reference without the sentence before it. Keeping such openers
-# out unless their predecessor is in the summary is common practice in extractive summarizing
+# cause...") reads as a dangling reference without the sentence before it. Selection leaves such
+# openers out (``build``'s eligible mask, unless too few sentences remain); the key-word refill
+# also admits one whose predecessor is in the summary. Common practice in extractive summarizing
 # (a rule of thumb, not tuned here).
 # Personal pronouns (he, she, they) are left out of the rule: in narratives they usually name the
 # story's main characters, and excluding them would exclude most of the story.
@@ -264,10 +266,9 @@ def _add_keywords(a: Analysis, chosen: list[int], texts: dict[int, str], costs: 
 
 def _named(a: Analysis, i: int) -> frozenset:
     """The key words source sentence i names (cached per analysis)."""
-    key = ("named", i)
-    if key not in a._sim:
-        a._sim[key] = frozenset(lemma for lemma, n in _keyword_counts(a, a.texts[i]).items() if n)
-    return a._sim[key]
+    if i not in a._named:
+        a._named[i] = frozenset(lemma for lemma, n in _keyword_counts(a, a.texts[i]).items() if n)
+    return a._named[i]
 
 
 def _clusters(a: Analysis, k: int) -> np.ndarray:
