@@ -3,9 +3,11 @@ command line can read them for its help text)."""
 
 from __future__ import annotations
 
+import random
 from dataclasses import dataclass, field
 
 DEFAULT_CANDIDATES = 8
+VARIANT_SEED = 0  # the seed of the random variants (see ``variants``)
 
 
 @dataclass(frozen=True)
@@ -87,3 +89,13 @@ def variants():
     )
     for n, (_base, settings, method) in enumerate(steps, 1):
         yield Recipe(f"variant-{n}", ExtractConfig(**settings), method=method)
+    # then an endless supply of random steps from "balanced" inside the ranges above (a local
+    # generator with a fixed seed, so a document always gets the same candidates): long sources
+    # at small budgets make most fixed recipes agree
+    rng = random.Random(VARIANT_SEED)
+    for n in range(len(steps) + 1, 10**6):
+        settings = dict(lead_weight=rng.choice((0.0, 0.15, 0.3, 0.6, 1.0)), damping=rng.choice((0.6, 0.75, 0.85)),
+                        alpha=rng.choice((0.1, 0.15, 0.2, 0.3)), diversity=rng.choice((3.0, 6.0, 10.0, 14.0)),
+                        cluster_share=rng.choice((0.05, 0.1, 0.2, 0.35, 0.5)), scale_power=rng.choice((0.0, 0.15, 0.3)),
+                        embed_weight=rng.choice((0.0, 0.0, 0.25, 0.5)))
+        yield Recipe(f"variant-{n}", ExtractConfig(**settings), method=rng.choice(("submodular", "submodular", "mmr")))
