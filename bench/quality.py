@@ -92,14 +92,14 @@ def run_main(examples, name: str, evaluator, candidates: int):
             "median_seconds": statistics.median(timings), "mean_budget": statistics.mean(e.budget_words for e in examples)}
 
 
-def run_ranking(evaluator, candidates: int, limit: int | None):
+def run_ranking(evaluator, candidates: int, limit: int | None, split: str = "dev"):
     from rouge_score.rouge_scorer import RougeScorer
 
     from summarize.pipeline import summarize
     from summarize.segment import split_sentences
 
     rouge = RougeScorer(["rouge2"], use_stemmer=True)
-    stories = data.squality("dev")[:limit]
+    stories = data.squality(split)[:limit]
     taus = []
     evidence = []  # per story: each candidate's scores, to study the ranking without re-running it
     for n, ex in enumerate(stories, 1):
@@ -121,7 +121,8 @@ def run_ranking(evaluator, candidates: int, limit: int | None):
         print(f"\rranking: {n}/{len(stories)} stories, mean tau {statistics.mean(taus) if taus else float('nan'):.3f}",
               end="", file=sys.stderr)
     print(file=sys.stderr)
-    out = {"stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus, "evidence": evidence}
+    out = {"split": split, "stories": len(stories), "mean_kendall_tau": statistics.mean(taus), "taus": taus,
+           "evidence": evidence}
     out.update(ranking_context(out))
     return out
 
@@ -153,7 +154,8 @@ def ranking_context(block: dict) -> dict:
     if not all("text" in c for e in ev for c in e["candidates"]):
         return out
     rouge = RougeScorer(["rouge2"], use_stemmer=True)
-    refs_of = {ex.id: ["\n".join(split_sentences(r)) for r in ex.references] for ex in data.squality("dev")}
+    refs_of = {ex.id: ["\n".join(split_sentences(r)) for r in ex.references]
+               for ex in data.squality(block.get("split", "dev"))}
     pairs = []
     for e in ev:
         refs = refs_of[e["story"]]
@@ -202,6 +204,8 @@ def main(argv=None):
     parser.add_argument("--sets", default="squality_test,longsciverify",
                         help="data sets for the main comparison (each is saved as soon as it is done)")
     parser.add_argument("--candidates", type=int, default=8)
+    parser.add_argument("--ranking-split", default="dev", choices=("train", "dev"),
+                        help="SQuALITY split for the ranking agreement (train is for tuning, dev is the reported one)")
     parser.add_argument("--name", default="quality", help="results file bench/results/NAME.json")
     parser.add_argument("--compression-limit", type=int, default=20,
                         help="documents of each set for the compression on/off comparison (default 20)")
@@ -235,12 +239,13 @@ def main(argv=None):
             gap = block["share_of_gap_closed"]
             print(f"share of the gap from {block['best_baseline']} to the oracle closed: "
                   + ", ".join(f"{t} {100 * v:.0f}%" for t, v in gap.items()))
+    key = f"ranking_squality_{args.ranking_split}"
     if "ranking" in parts:
-        results["ranking_squality_dev"] = run_ranking(evaluator, args.candidates, args.limit)
-        print(f"\nranking agreement (SQuALITY dev): mean Kendall tau {results['ranking_squality_dev']['mean_kendall_tau']:.3f}")
+        results[key] = run_ranking(evaluator, args.candidates, args.limit, args.ranking_split)
+        print(f"\nranking agreement (SQuALITY {args.ranking_split}): mean Kendall tau {results[key]['mean_kendall_tau']:.3f}")
         checkpoint(args, results)
     if "ranking-context" in parts and "ranking" not in parts:  # recompute the context from saved evidence
-        results["ranking_squality_dev"].update(ranking_context(results["ranking_squality_dev"]))
+        results[key].update(ranking_context(results[key]))
         checkpoint(args, results)
     if "compression" in parts:
         results["compression"] = {

@@ -11,6 +11,7 @@ import functools
 from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
+from scoring.agreement import AgreementConfig, AgreementScorer
 from scoring.combine import Candidate, CombineConfig, combined_score, rank
 from scoring.coverage import CoverageConfig, CoverageScorer
 from scoring.fluency import FluencyConfig, FluencyScorer
@@ -20,6 +21,7 @@ from scoring.fluency import FluencyConfig, FluencyScorer
 class EvalConfig:
     coverage: CoverageConfig = field(default_factory=CoverageConfig)
     fluency: FluencyConfig = field(default_factory=FluencyConfig)
+    agreement: AgreementConfig = field(default_factory=AgreementConfig)
     combine: CombineConfig = field(default_factory=CombineConfig)
 
 
@@ -30,6 +32,7 @@ class Evaluator:
         self.config = config
         self.coverage = CoverageScorer(config.coverage)
         self.fluency = FluencyScorer(config.fluency)
+        self.agreement = AgreementScorer(config.agreement)
 
     @functools.cached_property
     def rouge(self):
@@ -63,6 +66,7 @@ class Evaluator:
         coverage = self.coverage.score_many(texts, source=source)
         say("fluency")
         fluency = self.fluency.score_many(texts, source=source)
+        agreement = self.agreement.score_many(texts)  # None for each when fewer than 3 candidates
         refs = [r for r in (references or []) if r and r.strip()]
         rouge = bert = [None] * len(texts)
         if refs:
@@ -70,7 +74,7 @@ class Evaluator:
             rouge = [self.rouge.score(t, reference=refs) for t in texts]
             bert = self.bertscore.score_many(texts, reference=refs)
         out = []
-        for (name, text), cov, flu, rg, bs in zip(candidates, coverage, fluency, rouge, bert):
+        for (name, text), cov, flu, agr, rg, bs in zip(candidates, coverage, fluency, agreement, rouge, bert):
             out.append(
                 Candidate(
                     name=name,
@@ -79,9 +83,11 @@ class Evaluator:
                     budget=budget,
                     coverage=cov,
                     fluency=flu,
-                    combined=combined_score(cov.share, flu.value, self.config.combine),
+                    combined=combined_score(cov.share, flu.value, agr.value if agr is not None else None,
+                                            self.config.combine),
                     rouge=rg,
                     bertscore=bs,
+                    agreement=agr,
                 )
             )
         return rank(out)

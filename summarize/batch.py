@@ -234,8 +234,8 @@ class SummarizeJob:
         scores = signatures = None
         if summary.scores is not None:
             found = summary.to_dict(with_candidates=False)["scores"]
-            scores = {k: found[k] for k in ("combined", "coverage", "fluency", "over_budget")}
-            signatures = {k: found["signatures"][k]["text"] for k in ("coverage", "fluency")}
+            scores = {k: found[k] for k in ("combined", "coverage", "fluency", "agreement", "over_budget")}
+            signatures = {k: sig["text"] for k, sig in found["signatures"].items() if sig is not None}
         return {
             "summary": summary.text,
             "words": summary.words,
@@ -382,7 +382,7 @@ def _alive(pid: int) -> bool:
 # The manifest
 # --------------------------------------------------------------------------------------------
 
-CSV_COLUMNS = ("path", "status", "words", "budget", "source_words", "combined", "coverage", "fluency",
+CSV_COLUMNS = ("path", "status", "words", "budget", "source_words", "combined", "coverage", "fluency", "agreement",
                "summary_file", "sha256", "settings_key", "error", "finished", "summary")
 
 
@@ -483,7 +483,7 @@ class Manifest:
         for path in sorted(latest):
             record = latest[path]
             scores = record.get("scores") or {}
-            row = {**record, **{k: scores.get(k) for k in ("combined", "coverage", "fluency")}}
+            row = {**record, **{k: scores.get(k) for k in ("combined", "coverage", "fluency", "agreement")}}
             writer.writerow(["" if row.get(c) is None else row.get(c) for c in CSV_COLUMNS])
         _atomic_write(self.csv_path, buffer.getvalue())
         return self.csv_path

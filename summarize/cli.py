@@ -7,6 +7,7 @@ import sys
 
 import click
 
+from scoring.combine import CombineConfig
 from scoring.coverage import CoverageConfig
 from summarize.report import CAUTION
 from summarize.recipes import DEFAULT_CANDIDATES, RECIPES
@@ -78,7 +79,8 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
     \b
     boildown extracts salient, non-redundant sentences, deletes low-value phrases
     so the summary fills the budget exactly, builds several candidates that trade
-    coverage, fluency and redundancy differently, scores each, and prints the best.
+    coverage, fluency and redundancy differently, scores each, and prints the best:
+    the one with the highest combined score (see `boildown score --help`).
 
     \b
     Examples:
@@ -215,7 +217,11 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
               with the summary in front, against a same-length filler; the key
               words still missed are listed.
     fluency   from the small language model's perplexity, relative to the source's.
-    combined  0.75 coverage + 0.25 fluency; a summary over --words ranks last.
+    agreement with 3 or more summaries: each one's mean ROUGE-2 F1 against the
+              others (the typical summary scores high; a point they all omit
+              costs none of them).
+    combined  {combined};
+              a summary over --words ranks last.
 
     \b
     Example:
@@ -259,6 +265,9 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
         click.echo("")
         click.echo(report.signatures(ranked))
         click.echo(report.CAUTION)
+
+
+score.help = score.help.replace("{combined}", CombineConfig().describe())  # one source for the formula
 
 
 @main.command(name="compare")

@@ -155,7 +155,7 @@ def compare(
         "keywords": evaluator.config.coverage.keywords,
         "keywords_chosen": len(keyword_set.keywords),
         "references": len(refs),
-        "combined": f"{combine.w_coverage:g} x coverage + {combine.w_fluency:g} x fluency (weights normalised)",
+        "combined": combine.describe(any(c.agreement is not None for c in ranked)),
     }
     extra = (combine.signature(),)
     return assemble(

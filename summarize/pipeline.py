@@ -57,19 +57,24 @@ class Summary:
 
 
 def _scores(candidate) -> dict | None:
+    from scoring.combine import CombineConfig
+
     if candidate is None:
         return None
+    combine = CombineConfig()
     return {
         "combined": candidate.combined,
         "coverage": candidate.coverage.share,
         "fluency": candidate.fluency.value,
+        "agreement": candidate.agreement.value if candidate.agreement is not None else None,
         "over_budget": candidate.over_budget,
         "recovered": list(candidate.coverage.recovered),
         "missed": list(candidate.coverage.missed),
         "signatures": {
             "coverage": candidate.coverage.signature.to_dict(),
             "fluency": candidate.fluency.signature.to_dict(),
-            "combined": "0.75 coverage + 0.25 fluency",
+            "agreement": candidate.agreement.signature.to_dict() if candidate.agreement is not None else None,
+            "combined": combine.signature().to_dict() | {"formula": combine.describe(candidate.agreement is not None)},
         },
     }
 

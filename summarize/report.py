@@ -14,7 +14,7 @@ CAUTION = (
     "financial or safety decisions need the source itself and the judgement of a qualified person."
 )
 
-COLUMNS = ("rank", "name", "words", "budget", "coverage", "fluency", "combined")
+COLUMNS = ("rank", "name", "words", "budget", "coverage", "fluency", "agreement", "combined")
 REFERENCE_COLUMNS = ("rouge1", "rouge2", "rougeLsum", "bertscore")
 
 
@@ -33,6 +33,7 @@ def rows(candidates) -> list[dict]:
             "coverage_accuracy_gain": c.coverage.accuracy_gain,
             "fluency": round(c.fluency.value, 4),
             "perplexity": c.fluency.perplexity,
+            "agreement": round(c.agreement.value, 4) if c.agreement is not None else "",
             "combined": round(c.combined, 4),
             "recovered": " ".join(c.coverage.recovered),
             "missed": " ".join(c.coverage.missed),
@@ -67,11 +68,14 @@ def _pct(value: float) -> str:
     return f"{100 * value:5.1f}%"
 
 
-def table(candidates) -> str:
-    """The ranked table for a terminal, with a legend."""
+def table(candidates, combine=None) -> str:
+    """The ranked table for a terminal, with a legend (``combine``: the CombineConfig used)."""
+    from scoring.combine import CombineConfig
+
     records = rows(candidates)
     has_ref = any("rouge1" in r for r in records)
-    header = ["#", "candidate", "words", "coverage", "fluency", "combined"]
+    has_agreement = any(c.agreement is not None for c in candidates)
+    header = ["#", "candidate", "words", "coverage", "fluency"] + (["agreement"] if has_agreement else []) + ["combined"]
     if has_ref:
         header += ["R-1", "R-2", "R-Lsum", "BERTSc"]
     lines = []
@@ -79,7 +83,9 @@ def table(candidates) -> str:
         words = f"{r['words']}/{r['budget']}" if r["budget"] != "" else str(r["words"])
         if c.over_budget:
             words += " OVER"
-        cells = [str(r["rank"]), _short(r["name"], 28), words, _pct(r["coverage"]), f"{r['fluency']:.2f}", f"{r['combined']:.3f}"]
+        cells = [str(r["rank"]), _short(r["name"], 28), words, _pct(r["coverage"]), f"{r['fluency']:.2f}"]
+        cells += [f"{r['agreement']:.3f}"] if has_agreement else []
+        cells += [f"{r['combined']:.3f}"]
         if has_ref:
             cells += [f"{r.get(k, 0):.3f}" for k in ("rouge1", "rouge2", "rougeLsum", "bertscore")]
         lines.append(cells)
@@ -88,7 +94,10 @@ def table(candidates) -> str:
     out = [fmt(header), fmt(["-" * w for w in widths])] + [fmt(line) for line in lines]
     out.append("")
     out.append("coverage: share of the model's uncertainty about the source's blanked key words that the")
-    out.append("summary removes; fluency: 1 = reads as easily as the source; combined: 0.75 coverage + 0.25 fluency.")
+    out.append("summary removes; fluency: 1 = reads as easily as the source;")
+    if has_agreement:
+        out.append("agreement: mean ROUGE-2 F1 against the other candidates (the typical candidate scores high);")
+    out.append(f"combined: {(combine or CombineConfig()).describe(has_agreement)}.")
     return "\n".join(out)
 
 
@@ -113,6 +122,8 @@ def signatures(candidates) -> str:
         return ""
     c = candidates[0]
     sigs = [c.coverage.signature, c.fluency.signature]
+    if c.agreement is not None:
+        sigs.append(c.agreement.signature)
     if c.rouge is not None:
         sigs.append(c.rouge.signature)
     if c.bertscore is not None:

@@ -204,7 +204,9 @@ def _words_cell(c) -> str:
 def _ranking(cmp: Comparison) -> str:
     has_rouge = any(c.rouge is not None for c in cmp.candidates)
     has_bert = any(c.bertscore is not None for c in cmp.candidates)
-    head = ["Rank", "Candidate", "Words" + (" / budget" if cmp.budget else ""), "Coverage", "Fluency", "Combined"]
+    has_agreement = any(c.agreement is not None for c in cmp.candidates)
+    head = ["Rank", "Candidate", "Words" + (" / budget" if cmp.budget else ""), "Coverage", "Fluency"]
+    head += (["Agreement"] if has_agreement else []) + ["Combined"]
     if has_rouge:
         head += ["ROUGE-1 F1", "ROUGE-2 F1", "ROUGE-Lsum F1"]
     if has_bert:
@@ -217,8 +219,10 @@ def _ranking(cmp: Comparison) -> str:
             _words_cell(c),
             f'<td class="n">{_pct(c.coverage.share)}</td>',
             f'<td class="n">{_num(c.fluency.value, 2)}</td>',
-            f'<td class="n strong">{_num(c.combined, 3)}</td>',
         ]
+        if has_agreement:
+            cells.append(f'<td class="n">{_num(c.agreement.value, 3) if c.agreement else "–"}</td>')
+        cells.append(f'<td class="n strong">{_num(c.combined, 3)}</td>')
         if has_rouge:
             for kind in ("rouge1", "rouge2", "rougeLsum"):
                 cells.append(f'<td class="n">{_num(c.rouge.f1(kind), 3) if c.rouge else "–"}</td>')
@@ -233,6 +237,8 @@ def _ranking(cmp: Comparison) -> str:
         "<strong>Coverage</strong>: the share of the model's uncertainty about the source's blanked key words that the "
         "summary removes (how much key content it carries).",
         "<strong>Fluency</strong>: 1 means the summary reads as easily as its source; lower means harder going.",
+        *(["<strong>Agreement</strong>: the candidate's mean ROUGE-2 F1 against the other candidates; the typical "
+            "candidate scores high, and a point every candidate leaves out costs none of them."] if has_agreement else []),
         "<strong>Combined</strong>: " + (esc(combined) if combined else "coverage and fluency weighted together") + ".",
     ]
     if cmp.budget:
