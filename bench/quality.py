@@ -117,6 +117,7 @@ def run_ranking(evaluator, candidates: int, limit: int | None, split: str = "dev
             taus.append(tau)
         evidence.append({"story": ex.id, "tau": tau, "candidates": [
             {"name": c.name, "combined": c.combined, "coverage": c.coverage.share, "fluency": c.fluency.value,
+             "agreement": c.agreement.value if c.agreement is not None else None,
              "words": c.words, "rouge2": r2, "text": c.text} for c, r2 in zip(ranked, theirs)]})
         print(f"\rranking: {n}/{len(stories)} stories, mean tau {statistics.mean(taus) if taus else float('nan'):.3f}",
               end="", file=sys.stderr)
@@ -129,7 +130,8 @@ def run_ranking(evaluator, candidates: int, limit: int | None, split: str = "dev
 
 def ranking_context(block: dict) -> dict:
     """What the agreement figure should be read against, from the saved evidence alone:
-    - coverage alone, and boildown's own candidates alone (without LEAD and TextRank);
+    - coverage alone, agreement alone, the earlier combined score (0.75 coverage + 0.25 fluency,
+      no agreement), and boildown's own candidates alone (without LEAD and TextRank);
     - the same agreement between people: ROUGE-2 against one human summary vs against the other
       three, over the same candidates (how far one reference's ranking is from the rest)."""
     from rouge_score.rouge_scorer import RougeScorer
@@ -151,8 +153,23 @@ def ranking_context(block: dict) -> dict:
             ([c["combined"] for c in e["candidates"] if c["name"] != "lead"],
              [c["rouge2"] for c in e["candidates"] if c["name"] != "lead"]) for e in ev),
     }
+    own = [[c for c in e["candidates"] if c["name"].startswith("boildown")] for e in ev]
+    out["rouge2_of_top_ranked_boildown_candidate"] = 100 * statistics.mean(
+        max(cs, key=lambda c: c["combined"])["rouge2"] for cs in own)
+    out["rouge2_mean_of_boildown_candidates"] = 100 * statistics.mean(
+        statistics.mean(c["rouge2"] for c in cs) for cs in own)
     if not all("text" in c for e in ev for c in e["candidates"]):
         return out
+    from scoring.agreement import AgreementScorer
+    from scoring.combine import combined_score
+
+    agreement = AgreementScorer()
+    out["mean_kendall_tau_agreement_alone"] = mean_tau(
+        ([a.value for a in agreement.score_many([c["text"] for c in e["candidates"]])],
+         [c["rouge2"] for c in e["candidates"]]) for e in ev)
+    out["mean_kendall_tau_coverage_and_fluency"] = mean_tau(
+        ([combined_score(c["coverage"], c["fluency"]) for c in e["candidates"]], [c["rouge2"] for c in e["candidates"]])
+        for e in ev)
     rouge = RougeScorer(["rouge2"], use_stemmer=True)
     refs_of = {ex.id: ["\n".join(split_sentences(r)) for r in ex.references]
                for ex in data.squality(block.get("split", "dev"))}
@@ -223,7 +240,13 @@ def main(argv=None):
     results = {}
     previous = RESULTS / f"{args.name}.json"
     if previous.exists():
-        results = json.loads(previous.read_text()).get("results", {})
+        earlier = json.loads(previous.read_text())
+        results = earlier.get("results", {})
+        if parts == {"ranking-context"}:  # nothing is re-run: the file keeps the run it describes
+            global COMMIT, WHEN
+            COMMIT, WHEN = earlier.get("commit"), earlier.get("when")
+            args.limit, args.candidates = earlier.get("limit"), earlier.get("candidates", args.candidates)
+            args.compression_limit = earlier.get("compression_limit", args.compression_limit)
     if "main" in parts:
         for name, examples in (("squality_test", squality_test), ("longsciverify", papers)):
             if name not in args.sets.split(","):
@@ -262,7 +285,7 @@ def checkpoint(args, results: dict) -> Path:
     """Write what is done so far (parts already in the file from earlier runs are kept)."""
     return save(args.name, {"limit": args.limit, "compression_limit": args.compression_limit,
                             "candidates": args.candidates, "commit": COMMIT or None,
-                            "results": results})
+                            **({"when": WHEN} if WHEN else {}), "results": results})
 
 
 def _commit() -> str:
@@ -274,6 +297,7 @@ def _commit() -> str:
 
 
 COMMIT = _commit()
+WHEN = None  # the time of the run measured; None = now (save() records it)
 
 
 if __name__ == "__main__":

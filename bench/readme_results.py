@@ -158,11 +158,10 @@ def quality() -> list[str]:
         "the references (`.venv/bin/python bench/quality.py --parts main`). The timings were taken with "
         "other benchmarks sharing the 2 cores: see the summarizer speed below for clean ones.",
         "",
-        "boildown picks among its candidates by its own scores, mostly coverage, which counts the source's key "
-        "words a summary lets the model recover. Where coverage and ROUGE disagree it follows coverage: since "
-        "its drafts spend spare words on sentences that name missing key words, coverage has risen on both sets, "
-        "while ROUGE-1 and ROUGE-Lsum have fallen a little, most on LongSciVerify (about 2 points), and ROUGE-2 "
-        "rose on SQuALITY and fell on LongSciVerify (the commits measured are in `bench/results/*.json`).",
+        "boildown picks among its candidates by its combined score: half *agreement* (the candidate nearest the "
+        "others by ROUGE-2, minimum Bayes-risk selection) and half coverage and fluency. Its drafts spend spare "
+        "words on sentences that name key words the summary lacks, so its coverage is the highest of every "
+        "system on both sets (the commits measured are in `bench/results/*.json`).",
         "",
     ]
     titles = {"squality_test": "SQuALITY test", "longsciverify": "LongSciVerify"}
@@ -212,19 +211,34 @@ def ranking_and_compression() -> list[str]:
         out += [f"Ranking agreement: on {r['stories']} SQuALITY dev stories, boildown's candidates plus LEAD and "
                 "TextRank at the same budget, ranked by boildown's combined score and by ROUGE-2 F1 against the "
                 f"human summaries: mean Kendall tau **{r['mean_kendall_tau']:.3f}** (goal above 0.3"
-                + ("" if met else "; **not met**") + ").", ""]
-        ctx = [(k, r.get(k)) for k in ("mean_kendall_tau_coverage_alone", "mean_kendall_tau_boildown_candidates_only",
-                                       "mean_kendall_tau_one_reference_vs_the_others")]
-        if all(v is not None for _, v in ctx):
-            cov, own, people = (v for _, v in ctx)
-            text = (f"Read it against: coverage alone gives {cov:.3f}; boildown's own candidates alone (without "
-                    f"LEAD and TextRank) {own:.3f}; and ROUGE-2 against **one** human summary agrees with ROUGE-2 "
-                    f"against the other three at only {people:.3f} over the same candidates. The candidates of one "
-                    "story are close, and at this distance one person's summary agrees only moderately with the "
-                    "others' on how to order them.")
-            if r.get("mean_kendall_tau_without_lead") is not None:
-                text += f" Without LEAD the agreement is {r['mean_kendall_tau_without_lead']:.3f}."
-            out += [text, ""]
+                + ("" if met else "; **not met**") + f"; {when(d)}, commit {d.get('commit') or 'not recorded'}, {cmd}).", ""]
+        tuning = (load("ranking_tuning_train") or {}).get("results", {}).get("ranking_squality_train")
+        if tuning and tuning.get("mean_kendall_tau_agreement_alone") is not None:
+            out += ["The combined score is half *agreement* (each candidate's mean ROUGE-2 F1 against the other "
+                    "candidates) and half coverage and fluency; those weights were chosen on "
+                    f"{tuning['stories']} SQuALITY **train** stories, not on these: there agreement alone gave "
+                    f"{tuning['mean_kendall_tau_agreement_alone']:.3f} and coverage with fluency alone "
+                    f"{tuning['mean_kendall_tau_coverage_and_fluency']:.3f} "
+                    "(`.venv/bin/python bench/quality.py --parts ranking --ranking-split train --limit 30 "
+                    "--name ranking_tuning_train`).", ""]
+        ctx = {k: r.get(k) for k in ("mean_kendall_tau_agreement_alone", "mean_kendall_tau_coverage_alone",
+                                     "mean_kendall_tau_coverage_and_fluency", "mean_kendall_tau_boildown_candidates_only",
+                                     "mean_kendall_tau_without_lead", "mean_kendall_tau_one_reference_vs_the_others")}
+        if all(v is not None for v in ctx.values()):
+            out += [f"Read it against, on the same dev candidates: agreement alone "
+                    f"{ctx['mean_kendall_tau_agreement_alone']:.3f}; coverage alone "
+                    f"{ctx['mean_kendall_tau_coverage_alone']:.3f}; coverage and fluency without agreement (the "
+                    f"earlier combined score) {ctx['mean_kendall_tau_coverage_and_fluency']:.3f}; boildown's own "
+                    f"candidates alone (without LEAD and TextRank) {ctx['mean_kendall_tau_boildown_candidates_only']:.3f}; "
+                    f"without LEAD {ctx['mean_kendall_tau_without_lead']:.3f}. And ROUGE-2 against **one** human "
+                    "summary agrees with ROUGE-2 against the other three at only "
+                    f"{ctx['mean_kendall_tau_one_reference_vs_the_others']:.3f} over the same candidates: the "
+                    "candidates of one story are close, and at this distance one person's summary agrees only "
+                    "moderately with the others' on how to order them.", ""]
+        if r.get("rouge2_of_top_ranked_boildown_candidate") is not None:
+            out += [f"The top-ranked boildown candidate has ROUGE-2 {r['rouge2_of_top_ranked_boildown_candidate']:.2f} "
+                    f"on average, against {r['rouge2_mean_of_boildown_candidates']:.2f} for the mean of its "
+                    "candidates.", ""]
     newer = load("quality_compression")
     comp = (newer or {}).get("results", {}).get("compression") or res.get("compression")
     if newer and comp:
@@ -259,7 +273,7 @@ def ranking_and_compression() -> list[str]:
         else:
             out += ["**Compression does not earn its place on coverage on both sets** (it must raise coverage on "
                     "most documents of each). `--no-compress` turns it off.", ""]
-    return out + [f"({when(d)}, commit {d.get('commit') or 'not recorded'}, {cmd}.)", ""]
+    return out
 
 
 def summarizer() -> list[str]:
