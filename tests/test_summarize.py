@@ -324,3 +324,28 @@ def test_key_word_refill_skips_a_sentence_that_points_back():
     assert _add_keywords(a, [0], {}, costs, budget=17, eligible=np.ones(4, dtype=bool)) == [0, 3]
     # with its predecessor chosen, the back reference resolves (and only it fits the 8 words left)
     assert _add_keywords(a, [0, 1], {}, costs, budget=21, eligible=np.ones(4, dtype=bool)) == [0, 1, 2]
+
+
+def test_variants_never_run_out_and_are_deterministic():
+    import itertools
+
+    from summarize.recipes import variants
+
+    first = list(itertools.islice(variants(), 40))
+    assert first == list(itertools.islice(variants(), 40))  # fixed seed: the same candidates every run
+    assert len({r.name for r in first}) == 40
+    assert len({(r.extract, r.method) for r in first}) >= 35  # settings differ, not only names
+
+
+@pytest.mark.models
+def test_candidates_are_ranked_by_agreement_coverage_and_fluency():
+    from scoring.combine import combined_score
+    from summarize.pipeline import summarize
+
+    result = summarize(DEMO / "board_minutes_march.txt", words=80, candidates=3)
+    scored = [c for _, c in result.candidates]
+    assert len(scored) == 3 and all(c.agreement is not None and c.agreement.others == 2 for c in scored)
+    for c in scored:
+        assert c.combined == pytest.approx(combined_score(c.coverage.share, c.fluency.value, c.agreement.value), abs=1e-6)
+    assert result.scores.combined == max(c.combined for c in scored)
+    assert result.text == result.candidates[0][0].text
