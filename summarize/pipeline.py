@@ -7,6 +7,7 @@ candidates of ``summarize.search``, scores them with ``scoring.evaluate`` and re
 
 from __future__ import annotations
 
+import itertools
 import math
 import os
 from dataclasses import dataclass, field, replace
@@ -159,7 +160,7 @@ def summarize(
             drafts.append(build(analysis, recipe, budget))
         drafts = distinct(drafts)
         # duplicates: the named recipes not yet tried, then the variants
-        extra = iter([*RECIPES[wanted:], *variants()])
+        extra = itertools.chain(RECIPES[wanted:], variants())  # variants() never ends: never make it a list
         for _ in range(3 * wanted):
             if len(drafts) >= wanted:
                 break

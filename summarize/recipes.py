@@ -3,6 +3,7 @@ command line can read them for its help text)."""
 
 from __future__ import annotations
 
+import itertools
 import random
 from dataclasses import dataclass, field
 
@@ -93,7 +94,7 @@ def variants():
     # generator with a fixed seed, so a document always gets the same candidates): long sources
     # at small budgets make most fixed recipes agree
     rng = random.Random(VARIANT_SEED)
-    for n in range(len(steps) + 1, 10**6):
+    for n in itertools.count(len(steps) + 1):
         settings = dict(lead_weight=rng.choice((0.0, 0.15, 0.3, 0.6, 1.0)), damping=rng.choice((0.6, 0.75, 0.85)),
                         alpha=rng.choice((0.1, 0.15, 0.2, 0.3)), diversity=rng.choice((3.0, 6.0, 10.0, 14.0)),
                         cluster_share=rng.choice((0.05, 0.1, 0.2, 0.35, 0.5)), scale_power=rng.choice((0.0, 0.15, 0.3)),
