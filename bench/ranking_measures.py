@@ -1,0 +1,117 @@
+"""Which agreement measure, and how much coverage beside it, orders candidates most like ROUGE-2.
+
+Reads only the candidates saved by earlier ranking runs (no model is loaded):
+``bench/results/ranking_tuning_train.json`` (30 SQuALITY train stories, the tuning set) and
+``bench/results/quality_ranking.json`` (25 SQuALITY dev stories, the reported set). For each
+story, each candidate's agreement is its mean ROUGE-N score against the other candidates
+(rouge-score, stemming on) taken as F1, recall or precision; the candidates are ordered by it,
+alone or as a z-score within the story plus w times coverage's z-score, and the order is set
+against the order by ROUGE-2 F1 against the human summaries (Kendall tau-b, mean over stories).
+A measure is worth adopting only if it is ahead on train; dev is shown to see whether that holds.
+Also the ROUGE-2 of the one candidate each rule would return (what a user gets).
+
+    .venv/bin/python bench/ranking_measures.py
+"""
+
+from __future__ import annotations
+
+import json
+import statistics
+import sys
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from bench.common import RESULTS, kendall, save  # noqa: E402
+
+SOURCES = {"train": ("ranking_tuning_train", "ranking_squality_train"), "dev": ("quality_ranking", "ranking_squality_dev")}
+MEASURES = ("rouge1", "rouge2", "rougeL")
+SIDES = ("fmeasure", "recall", "precision")
+
+
+def _z(xs: list[float]) -> list[float]:
+    mu, sd = statistics.mean(xs), statistics.pstdev(xs) or 1.0
+    return [(x - mu) / sd for x in xs]
+
+
+def story_scores(candidates: list[dict], rouge) -> dict[str, list[float]]:
+    """Every ordering this script compares, for one story's candidates."""
+    texts = [c["text"] for c in candidates]
+    n = len(texts)
+    pair = {(i, j): rouge.score(texts[j], texts[i]) for i in range(n) for j in range(n) if i != j}  # target j
+    out = {}
+    for m in MEASURES:
+        for side in SIDES:
+            out[f"agreement {m} {side}"] = [statistics.mean(getattr(pair[i, j][m], side) for j in range(n) if j != i)
+                                            for i in range(n)]
+    coverage = _z([c["coverage"] for c in candidates])
+    agreement = _z(out["agreement rouge2 fmeasure"])
+    for w in (0.25, 0.5, 0.75):
+        out[f"z agreement rouge2 F1 + {w} z coverage"] = [a + w * c for a, c in zip(agreement, coverage)]
+    out["coverage alone"] = [c["coverage"] for c in candidates]
+    out["combined score saved by the run"] = [c["combined"] for c in candidates]
+    return out
+
+
+def picks(candidates: list[dict], rouge) -> dict[str, float]:
+    """ROUGE-2 (x 100, against the humans) of the boildown candidate each rule would return.
+    As in the pipeline, agreement is taken among boildown's own candidates only."""
+    from scoring.combine import combined_score
+
+    own = [c for c in candidates if c["name"].startswith("boildown")]
+    agreement = [statistics.mean(rouge.score(o["text"], c["text"])["rouge2"].fmeasure for o in own if o is not c)
+                 for c in own]
+
+    def top(key):
+        return 100 * max(zip(own, agreement), key=lambda ca: key(*ca))[0]["rouge2"]
+
+    by_name = {c["name"]: c for c in candidates}
+    return {
+        "combined score (agreement, coverage, fluency)": top(lambda c, a: combined_score(c["coverage"], c["fluency"], a)),
+        "agreement alone": top(lambda c, a: a),
+        "coverage and fluency (earlier combined score)": top(lambda c, a: combined_score(c["coverage"], c["fluency"])),
+        "the balanced candidate": 100 * by_name["boildown:balanced"]["rouge2"],
+        "mean of boildown's candidates": 100 * statistics.mean(c["rouge2"] for c in own),
+        "best boildown candidate (by the references)": 100 * max(c["rouge2"] for c in own),
+        "TextRank": 100 * by_name["textrank"]["rouge2"],
+    }
+
+
+def main() -> None:
+    from rouge_score.rouge_scorer import RougeScorer
+
+    rouge = RougeScorer(list(MEASURES), use_stemmer=True)
+    table, pick_table, runs = {}, {}, {}
+    for split, (name, key) in SOURCES.items():
+        path = RESULTS / f"{name}.json"
+        if not path.exists():
+            print(f"skipped {split}: {path} is absent (run bench/quality.py --parts ranking first)")
+            continue
+        run = json.loads(path.read_text())
+        runs[split] = {"file": path.name, "commit": run.get("commit"), "when": run.get("when")}
+        taus: dict[str, list[float]] = {}
+        chosen: dict[str, list[float]] = {}
+        for story in run["results"][key]["evidence"]:
+            for label, r2 in picks(story["candidates"], rouge).items():
+                chosen.setdefault(label, []).append(r2)
+            truth = [c["rouge2"] for c in story["candidates"]]
+            for label, scores in story_scores(story["candidates"], rouge).items():
+                t = kendall(scores, truth)
+                if t == t:
+                    taus.setdefault(label, []).append(t)
+        for label, ts in taus.items():
+            table.setdefault(label, {})[split] = round(statistics.mean(ts), 4)
+        for label, r2 in chosen.items():
+            pick_table.setdefault(label, {})[split] = round(statistics.mean(r2), 3)
+    if not table:
+        return
+    print(f"{'ordering':42s} " + " ".join(f"{s:>6s}" for s in runs))
+    for label, row in table.items():
+        print(f"{label:42s} " + " ".join(f"{row.get(s, float('nan')):6.3f}" for s in runs))
+    print(f"\n{'ROUGE-2 of the candidate returned by':46s} " + " ".join(f"{s:>6s}" for s in runs))
+    for label, row in pick_table.items():
+        print(f"{label:46s} " + " ".join(f"{row.get(s, float('nan')):6.2f}" for s in runs))
+    print(f"written {save('ranking_measures', {'runs': runs, 'mean_kendall_tau': table, 'rouge2_of_pick': pick_table})}")
+
+
+if __name__ == "__main__":
+    main()
