@@ -145,6 +145,24 @@ def fluency() -> list[str]:
     return out
 
 
+MEAN_PICK = "mean of boildown's candidates"
+
+
+def coverage_sentence(files: list[dict]) -> str:
+    """Whether boildown's coverage is the highest of every system (oracle included), per data set."""
+    tables = {key: d["results"][key]["table"] for d in files for key in ("squality_test", "longsciverify")
+              if key in d["results"]}  # later files win, as in the tables below
+    highest = [key for key, t in tables.items()
+               if all(t["boildown"]["coverage"] > row["coverage"] for s, row in t.items() if s != "boildown")]
+    if tables and len(highest) == len(tables):
+        return ", so its coverage is the highest of every system, the oracle included, on " + (
+            "both sets" if len(tables) == 2 else "the set measured")
+    names = {"squality_test": "SQuALITY test", "longsciverify": "LongSciVerify"}
+    if highest:
+        return f"; its coverage is the highest of every system on {names[highest[0]]} only"
+    return "; even so, some system's coverage is above boildown's on every set measured"
+
+
 def quality() -> list[str]:
     # one data set per run may be saved under its own name (bench/quality.py --sets X --name Y)
     files = [d for d in (load("quality"), load("quality_squality")) if d]
@@ -160,8 +178,8 @@ def quality() -> list[str]:
         "",
         "boildown picks among its candidates by its combined score: half *agreement* (the candidate nearest the "
         "others by ROUGE-2, minimum Bayes-risk selection) and half coverage and fluency. Its drafts spend spare "
-        "words on sentences that name key words the summary lacks, so its coverage is the highest of every "
-        "system on both sets (the commits measured are in `bench/results/*.json`).",
+        "words on sentences that name key words the summary lacks" + coverage_sentence(files)
+        + " (the commits measured are in `bench/results/*.json`).",
         "",
     ]
     titles = {"squality_test": "SQuALITY test", "longsciverify": "LongSciVerify"}
@@ -221,6 +239,30 @@ def ranking_and_compression() -> list[str]:
                     f"{tuning['mean_kendall_tau_coverage_and_fluency']:.3f} "
                     "(`.venv/bin/python bench/quality.py --parts ranking --ranking-split train --limit 30 "
                     "--name ranking_tuning_train`).", ""]
+        measures = (load("ranking_measures") or {}).get("mean_kendall_tau") or {}
+        kept = measures.get("agreement rouge2 fmeasure", {})
+        tried = {k: v for k, v in measures.items() if "train" in v and (k.startswith("agreement") or k.startswith("z "))}
+        if tried and "train" in kept and "dev" in kept:
+            best = max(tried, key=lambda k: tried[k]["train"])
+            out += [f"Other agreement measures and weights, on the same saved candidates ({len(tried)} orderings, "
+                    "`.venv/bin/python bench/ranking_measures.py`): the best on train is " + (
+                        "the one in use" if best == "agreement rouge2 fmeasure" else
+                        f"{best.replace('fmeasure', 'F1').replace('rouge', 'ROUGE-')} at {tried[best]['train']:.3f}"
+                        + (f" (dev {tried[best]['dev']:.3f})" if "dev" in tried[best] else ""))
+                    + f", against {kept['train']:.3f} for ROUGE-2 F1 agreement (dev {kept['dev']:.3f}); " + (
+                        "the measure in use stays, since none is ahead of it on train by more than 0.02."
+                        if tried[best]["train"] - kept["train"] <= 0.02 else
+                        "**that one is ahead on train and has not been adopted yet**."), ""]
+        pick = (load("ranking_measures") or {}).get("rouge2_of_pick") or {}
+        if all(k in pick for k in ("combined score (agreement, coverage, fluency)", "TextRank",
+                                   "coverage and fluency (earlier combined score)")):
+            row = lambda k: " and ".join(f"{v:.2f} on {s}" for s, v in pick[k].items())  # noqa: E731
+            out += ["What a user gets: the boildown candidate the combined score returns (agreement taken among "
+                    f"boildown's own candidates, as in the tool) has ROUGE-2 {row('combined score (agreement, coverage, fluency)')}, "
+                    f"against {row('coverage and fluency (earlier combined score)')} for the earlier combined score, "
+                    f"{row(MEAN_PICK)} for the mean candidate, "
+                    f"{row('best boildown candidate (by the references)')} for the best one, and TextRank's "
+                    f"{row('TextRank')} (`.venv/bin/python bench/ranking_measures.py`).", ""]
         ctx = {k: r.get(k) for k in ("mean_kendall_tau_agreement_alone", "mean_kendall_tau_coverage_alone",
                                      "mean_kendall_tau_coverage_and_fluency", "mean_kendall_tau_boildown_candidates_only",
                                      "mean_kendall_tau_without_lead", "mean_kendall_tau_one_reference_vs_the_others")}
@@ -236,7 +278,8 @@ def ranking_and_compression() -> list[str]:
                     "candidates of one story are close, and at this distance one person's summary agrees only "
                     "moderately with the others' on how to order them.", ""]
         if r.get("rouge2_of_top_ranked_boildown_candidate") is not None:
-            out += [f"The top-ranked boildown candidate has ROUGE-2 {r['rouge2_of_top_ranked_boildown_candidate']:.2f} "
+            out += ["Ranked within the whole pool (agreement taken with LEAD and TextRank among the others), the "
+                    f"top-ranked boildown candidate has ROUGE-2 {r['rouge2_of_top_ranked_boildown_candidate']:.2f} "
                     f"on average, against {r['rouge2_mean_of_boildown_candidates']:.2f} for the mean of its "
                     "candidates.", ""]
     newer = load("quality_compression")
@@ -287,7 +330,11 @@ def summarizer() -> list[str]:
                 f"| 5,000 words | {b['5000']['median_s']:.1f} | {b['5000']['candidates_scored']} | at most 30 s, 8 candidates |",
                 f"| 20,000 words | {b['20000']['median_s']:.1f} (**{d['ratio_20k_to_5k']:.2f}x**) | "
                 f"{b['20000']['candidates_scored']} | at most 4.5x |", "",
-                f"Peak resident memory {d['peak_rss_gb']:.2f} GB (target at most 3 GB).", ""]
+                f"Peak resident memory {d['peak_rss_gb']:.2f} GB (target at most 3 GB)." + (
+                    f" The same run measured this machine's matrix multiply at {d['matmul_fp32_gflops']:.0f} GFLOPS "
+                    f"fp32 and {d['matmul_bf16_gflops']:.0f} bf16 (`bench/common.py`; coverage, most of the time, "
+                    "runs in bf16): the times scale roughly with these from one machine to another."
+                    if d.get("matmul_bf16_gflops") else ""), ""]
     d = load("budget_check")
     if d:
         out += [f"Budget: {d['drafts']} drafts (every recipe) over {d['documents']} documents at 50, 100, 150, "

@@ -19,7 +19,7 @@ import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from bench.common import save  # noqa: E402
+from bench.common import matmul_peak_gflops, save  # noqa: E402
 from bench.coverage_speed import corpus  # noqa: E402
 
 
@@ -53,9 +53,15 @@ def main(argv=None):
         print(f"{n:>6} words -> {result.words} words, {len(result.candidates)} scored candidates: "
               f"median {results[n]['median_s']:.1f} s over {args.repeats} runs")
     peak_gb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024 / 1024
+    # the machine's yardstick, same run: times on another machine scale roughly with it
+    matmul = statistics.median(matmul_peak_gflops("float32") for _ in range(3))
+    matmul_bf16 = statistics.median(matmul_peak_gflops("bfloat16") for _ in range(3))  # the coverage model's dtype
     ratio = results[20000]["median_s"] / results[5000]["median_s"]
-    print(f"20,000 / 5,000 words: {ratio:.2f}x; peak memory {peak_gb:.2f} GB (max resident set)")
-    out = save("summarize_speed", {"threads": threads, "by_length": results, "ratio_20k_to_5k": ratio, "peak_rss_gb": peak_gb})
+    print(f"20,000 / 5,000 words: {ratio:.2f}x; peak memory {peak_gb:.2f} GB (max resident set); "
+          f"matmul {matmul:.0f} GFLOPS fp32, {matmul_bf16:.0f} bf16")
+    out = save("summarize_speed", {"threads": threads, "by_length": results, "ratio_20k_to_5k": ratio,
+                                   "peak_rss_gb": peak_gb, "matmul_fp32_gflops": matmul,
+                                   "matmul_bf16_gflops": matmul_bf16})
     print(f"written {out}")
 
 
