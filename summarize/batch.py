@@ -19,7 +19,9 @@ Crash safety, by construction:
   and SIGTERM stop a run between two records; a torn last line (a run killed mid-write) is
   cut away when the next run opens the manifest, and leftover temporary files are removed;
 * a document whose (content hash, settings) already has a success record is skipped (its
-  summary file restored from the record when missing), and the parent checks the manifest
+  summary file restored from the record when missing); the settings hold the job's ``code()``
+  where it has one (the real job's version and combined formula), so records made by other
+  code are not reused; the parent checks the manifest
   before every append, so a success is never recorded twice for the same (path, content,
   settings) unless ``force`` asks for a fresh one (the newer record supersedes the older);
 * ``out_dir/.boildown.lock`` (created with O_CREAT|O_EXCL, held with ``flock``, holding the
@@ -146,8 +148,12 @@ class BatchConfig:
                 raise BatchError(f"an --include/--exclude pattern must be a non-empty glob, got {pattern!r}")
 
     def settings(self, job) -> dict:
-        """What a summary depends on; a record is reused only under identical settings."""
-        return {"job": job.name, "words": self.words, "ratio": self.ratio, "candidates": self.candidates}
+        """What a summary depends on; a record is reused only under identical settings. A job that
+        names its code (``job.code()``: version and formula) adds it, so an upgrade recomputes."""
+        out = {"job": job.name, "words": self.words, "ratio": self.ratio, "candidates": self.candidates}
+        if hasattr(job, "code"):
+            out["code"] = job.code()
+        return out
 
 
 def settings_key(settings: dict) -> str:
@@ -210,6 +216,14 @@ class SummarizeJob:
     """The real job: ``summarize.pipeline.summarize`` with the run's settings."""
 
     name: ClassVar[str] = "summarize"
+
+    def code(self) -> str:
+        """What produced the summary besides the settings: boildown's version and the combined
+        score that picks among the candidates (a record made under another is not reused)."""
+        from scoring.base import project_version
+        from scoring.combine import CombineConfig
+
+        return f"boildown {project_version()}; {CombineConfig().signature()}"
 
     def check(self) -> None:
         """Fail fast (one line, names the fix) when the model files are not installed."""
@@ -1302,7 +1316,7 @@ class _Run:
 def _run_signature(job, settings: dict) -> str:
     from scoring.base import Signature
 
-    fields = {k: v for k, v in settings.items() if k != "job" and v is not None}
+    fields = {k: v for k, v in settings.items() if k not in ("job", "code") and v is not None}  # v: carries the version
     return str(Signature.build(job.name, fields))
 
 

@@ -22,6 +22,7 @@ folder named like a document, a named pipe.
 from __future__ import annotations
 
 import collections
+import dataclasses
 import json
 import os
 import shutil
@@ -154,6 +155,26 @@ def test_new_settings_are_a_new_record_and_old_records_stay(tmp_path):
     assert result.done == 2 and result.skipped == 0
     assert sorted(r["words"] for r in records(out)) == [10, 10, 20, 20]
     assert run_lead(src, out, words=10).skipped == 2  # both settings are remembered
+
+
+@dataclasses.dataclass(frozen=True)
+class CodedLead(LeadJob):
+    """LeadJob that names its code, as the real job does (its version and combined formula)."""
+
+    version: str = "a"
+
+    def code(self) -> str:
+        return self.version
+
+
+def test_a_record_made_by_other_code_is_not_reused(tmp_path):
+    src = make_docs(tmp_path / "in", 2)
+    out = tmp_path / "out"
+    assert run_batch(src, out, job=CodedLead(version="a"), words=10).done == 2
+    assert run_batch(src, out, job=CodedLead(version="a"), words=10).skipped == 2
+    upgraded = run_batch(src, out, job=CodedLead(version="b"), words=10)
+    assert (upgraded.done, upgraded.skipped) == (2, 0)  # an upgrade recomputes without --force
+    assert {r["settings"]["code"] for r in records(out)} == {"a", "b"}
 
 
 def test_identical_copies_are_summarized_once(tmp_path):
@@ -657,7 +678,9 @@ def test_real_summarizer_on_two_tiny_documents(tmp_path):
     result = run_batch(src, out, words=30, candidates=1, workers=1)
     assert (result.done, result.failed) == (2, 0), result.failures
     for record in records(out):
-        assert record["settings"] == {"job": "summarize", "words": 30, "ratio": None, "candidates": 1}
+        assert record["settings"] == {"job": "summarize", "words": 30, "ratio": None, "candidates": 1,
+                                      "code": batch.SummarizeJob().code()}
+        assert "boildown 0.1.0" in record["settings"]["code"] and "agr:0.5" in record["settings"]["code"]
         assert 0 < record["words"] <= 30 and record["source_words"] > 30
         assert set(record["scores"]) == {"combined", "coverage", "fluency", "agreement", "over_budget"}
         assert record["scores"]["agreement"] is None  # one candidate: nothing to agree with
