@@ -33,11 +33,25 @@ def _z(xs: list[float]) -> list[float]:
     return [(x - mu) / sd for x in xs]
 
 
+_PAIRS: dict[tuple, dict] = {}
+
+
+def _pairs(candidates: list[dict], rouge) -> dict[tuple[int, int], dict]:
+    """ROUGE of candidate i (prediction) against candidate j (target), for every i != j; computed
+    once per story and shared by the orderings and the picks."""
+    texts = tuple(c["text"] for c in candidates)
+    key = (id(rouge), texts)
+    if key not in _PAIRS:
+        _PAIRS.clear()  # one story at a time
+        n = len(texts)
+        _PAIRS[key] = {(i, j): rouge.score(texts[j], texts[i]) for i in range(n) for j in range(n) if i != j}
+    return _PAIRS[key]
+
+
 def story_scores(candidates: list[dict], rouge) -> dict[str, list[float]]:
     """Every ordering this script compares, for one story's candidates."""
-    texts = [c["text"] for c in candidates]
-    n = len(texts)
-    pair = {(i, j): rouge.score(texts[j], texts[i]) for i in range(n) for j in range(n) if i != j}  # target j
+    n = len(candidates)
+    pair = _pairs(candidates, rouge)
     out = {}
     for m in MEASURES:
         for side in SIDES:
@@ -57,9 +71,10 @@ def picks(candidates: list[dict], rouge) -> dict[str, float]:
     As in the pipeline, agreement is taken among boildown's own candidates only."""
     from scoring.combine import combined_score
 
-    own = [c for c in candidates if c["name"].startswith("boildown")]
-    agreement = [statistics.mean(rouge.score(o["text"], c["text"])["rouge2"].fmeasure for o in own if o is not c)
-                 for c in own]
+    pair = _pairs(candidates, rouge)
+    own_at = [i for i, c in enumerate(candidates) if c["name"].startswith("boildown")]
+    own = [candidates[i] for i in own_at]
+    agreement = [statistics.mean(pair[i, j]["rouge2"].fmeasure for j in own_at if j != i) for i in own_at]
 
     def top(key):
         return 100 * max(zip(own, agreement), key=lambda ca: key(*ca))[0]["rouge2"]

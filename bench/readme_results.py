@@ -239,7 +239,8 @@ def ranking_and_compression() -> list[str]:
                     f"{tuning['mean_kendall_tau_coverage_and_fluency']:.3f} "
                     "(`.venv/bin/python bench/quality.py --parts ranking --ranking-split train --limit 30 "
                     "--name ranking_tuning_train`).", ""]
-        measures = (load("ranking_measures") or {}).get("mean_kendall_tau") or {}
+        alternatives = load("ranking_measures") or {}
+        measures = alternatives.get("mean_kendall_tau") or {}
         kept = measures.get("agreement rouge2 fmeasure", {})
         tried = {k: v for k, v in measures.items() if "train" in v and (k.startswith("agreement") or k.startswith("z "))}
         if tried and "train" in kept and "dev" in kept:
@@ -253,7 +254,7 @@ def ranking_and_compression() -> list[str]:
                         "the measure in use stays, since none is ahead of it on train by more than 0.02."
                         if tried[best]["train"] - kept["train"] <= 0.02 else
                         "**that one is ahead on train and has not been adopted yet**."), ""]
-        pick = (load("ranking_measures") or {}).get("rouge2_of_pick") or {}
+        pick = alternatives.get("rouge2_of_pick") or {}
         if all(k in pick for k in ("combined score (agreement, coverage, fluency)", "TextRank",
                                    "coverage and fluency (earlier combined score)")):
             row = lambda k: " and ".join(f"{v:.2f} on {s}" for s, v in pick[k].items())  # noqa: E731
