@@ -10,14 +10,26 @@ against the order by ROUGE-2 F1 against the human summaries (Kendall tau-b, mean
 A measure is worth adopting only if it is ahead on train; dev is shown to see whether that holds.
 Also the ROUGE-2 of the one candidate each rule would return (what a user gets).
 
+Two other reference-free signals are set beside agreement:
+- *source divergence*: the Jensen-Shannon divergence between the source's and the candidate's
+  distributions of index terms (``bench.baselines.terms``: stop words dropped, Porter-stemmed;
+  no smoothing), lower = closer to the source, the measure Louis & Nenkova (2013, "Automatically
+  assessing machine summary content without a gold standard") found to track content scores
+  best among their input-summary comparisons; it needs the stories' text (../shared/data);
+- *words per sentence*: the candidate's words over its sentences (``summarize.segment``). Fiction
+  summaries built of long sentences carry fewer dialogue lines and short fragments; this is a
+  style signal, not a content one.
+
     .venv/bin/python bench/ranking_measures.py
 """
 
 from __future__ import annotations
 
 import json
+import math
 import statistics
 import sys
+from collections import Counter
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
@@ -36,6 +48,29 @@ def _z(xs: list[float]) -> list[float]:
 _PAIRS: dict[tuple, dict] = {}
 
 
+def js_divergence(p: Counter, q: Counter) -> float:
+    """Jensen-Shannon divergence (natural log) between two bags of terms, taken as frequency
+    distributions; 0 for equal distributions, ln 2 for disjoint ones (Lin, 1991)."""
+    sp, sq = sum(p.values()), sum(q.values())
+    if not sp or not sq:
+        return math.log(2)
+    total = 0.0
+    for term in set(p) | set(q):
+        a, b = p.get(term, 0) / sp, q.get(term, 0) / sq
+        m = (a + b) / 2
+        if a:
+            total += 0.5 * a * math.log(a / m)
+        if b:
+            total += 0.5 * b * math.log(b / m)
+    return total
+
+
+def words_per_sentence(text: str) -> float:
+    from summarize.segment import count_words, split_sentences
+
+    return count_words(text) / max(1, len(split_sentences(text)))
+
+
 def _pairs(candidates: list[dict], rouge) -> dict[tuple[int, int], dict]:
     """ROUGE of candidate i (prediction) against candidate j (target), for every i != j; computed
     once per story and shared by the orderings and the picks."""
@@ -48,8 +83,9 @@ def _pairs(candidates: list[dict], rouge) -> dict[tuple[int, int], dict]:
     return _PAIRS[key]
 
 
-def story_scores(candidates: list[dict], rouge) -> dict[str, list[float]]:
-    """Every ordering this script compares, for one story's candidates."""
+def story_scores(candidates: list[dict], rouge, source: str | None = None) -> dict[str, list[float]]:
+    """Every ordering this script compares, for one story's candidates (the source-divergence
+    ones only when the story's ``source`` text is given)."""
     n = len(candidates)
     pair = _pairs(candidates, rouge)
     out = {}
@@ -61,6 +97,18 @@ def story_scores(candidates: list[dict], rouge) -> dict[str, list[float]]:
     agreement = _z(out["agreement rouge2 fmeasure"])
     for w in (0.25, 0.5, 0.75):
         out[f"z agreement rouge2 F1 + {w} z coverage"] = [a + w * c for a, c in zip(agreement, coverage)]
+    density = [words_per_sentence(c["text"]) for c in candidates]
+    out["words per sentence alone"] = density
+    for w in (0.25, 0.5):
+        out[f"z agreement rouge2 F1 + {w} z words per sentence"] = [a + w * d for a, d in zip(agreement, _z(density))]
+    if source is not None:
+        from bench.baselines import terms
+
+        bag = Counter(terms(source))
+        closeness = [-js_divergence(bag, Counter(terms(c["text"]))) for c in candidates]
+        out["source divergence alone (-JS)"] = closeness
+        for w in (0.25, 0.5):
+            out[f"z agreement rouge2 F1 + {w} z(-JS)"] = [a + w * d for a, d in zip(agreement, _z(closeness))]
     out["coverage alone"] = [c["coverage"] for c in candidates]
     out["combined score saved by the run"] = [c["combined"] for c in candidates]
     return out
@@ -80,15 +128,30 @@ def picks(candidates: list[dict], rouge) -> dict[str, float]:
         return 100 * max(zip(own, agreement), key=lambda ca: key(*ca))[0]["rouge2"]
 
     by_name = {c["name"]: c for c in candidates}
+    density = dict(zip(map(id, own), _z([words_per_sentence(c["text"]) for c in own])))
+    z_agreement = dict(zip(map(id, own), _z(agreement)))
     return {
         "combined score (agreement, coverage, fluency)": top(lambda c, a: combined_score(c["coverage"], c["fluency"], a)),
         "agreement alone": top(lambda c, a: a),
+        "z agreement + 0.5 z words per sentence": top(lambda c, a: z_agreement[id(c)] + 0.5 * density[id(c)]),
         "coverage and fluency (earlier combined score)": top(lambda c, a: combined_score(c["coverage"], c["fluency"])),
         "the balanced candidate": 100 * by_name["boildown:balanced"]["rouge2"],
         "mean of boildown's candidates": 100 * statistics.mean(c["rouge2"] for c in own),
         "best boildown candidate (by the references)": 100 * max(c["rouge2"] for c in own),
         "TextRank": 100 * by_name["textrank"]["rouge2"],
     }
+
+
+def _sources(split: str) -> dict[str, str]:
+    """Story id -> text for the source-divergence orderings; empty (those rows left out) when the
+    external data is absent."""
+    from bench import data
+
+    try:
+        return {ex.id: ex.source_text for ex in data.squality(split)}
+    except data.DataMissing as exc:
+        print(f"source divergence left out for {split}: {exc}")
+        return {}
 
 
 def main() -> None:
@@ -105,11 +168,12 @@ def main() -> None:
         runs[split] = {"file": path.name, "commit": run.get("commit"), "when": run.get("when")}
         taus: dict[str, list[float]] = {}
         chosen: dict[str, list[float]] = {}
+        sources = _sources(split)
         for story in run["results"][key]["evidence"]:
             for label, r2 in picks(story["candidates"], rouge).items():
                 chosen.setdefault(label, []).append(r2)
             truth = [c["rouge2"] for c in story["candidates"]]
-            for label, scores in story_scores(story["candidates"], rouge).items():
+            for label, scores in story_scores(story["candidates"], rouge, sources.get(story["story"])).items():
                 t = kendall(scores, truth)
                 if t == t:
                     taus.setdefault(label, []).append(t)

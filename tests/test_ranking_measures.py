@@ -51,3 +51,30 @@ def test_pick_is_the_candidate_the_tool_would_return(rouge):
     assert got["best boildown candidate (by the references)"] == pytest.approx(20.0)
     assert got["mean of boildown's candidates"] == pytest.approx(100 * (0.12 + 0.20 + 0.08) / 3)
     assert got["TextRank"] == pytest.approx(1.0)  # TextRank is never one of the candidates picked from
+
+
+def test_js_divergence_matches_scipy_and_its_bounds():
+    """Jensen-Shannon divergence against scipy.spatial.distance.jensenshannon (which returns its
+    square root, natural log by default); 0 for equal and ln 2 for disjoint distributions (Lin 1991)."""
+    import math
+    from collections import Counter
+
+    from scipy.spatial.distance import jensenshannon
+
+    from bench.ranking_measures import js_divergence
+
+    p, q = Counter({"ferri": 3, "flood": 2, "council": 1}), Counter({"flood": 1, "pear": 4, "council": 2})
+    vocab = sorted(set(p) | set(q))
+    expected = jensenshannon([p[t] for t in vocab], [q[t] for t in vocab]) ** 2
+    assert js_divergence(p, q) == pytest.approx(expected, rel=1e-9)
+    assert js_divergence(p, Counter({t: 2 * n for t, n in p.items()})) == pytest.approx(0.0, abs=1e-12)
+    assert js_divergence(p, Counter({"orchard": 1})) == pytest.approx(math.log(2))
+
+
+def test_source_orderings_prefer_the_candidate_closest_to_the_source(rouge):
+    source = " ".join(TEXTS[:3]) + " The ferry landing will be rebuilt before the autumn flood season."
+    scores = story_scores(CANDIDATES, rouge, source)
+    closeness = scores["source divergence alone (-JS)"]
+    assert closeness[3] == min(closeness)  # the pear sentence shares no term with the ferry story
+    assert "source divergence alone (-JS)" not in story_scores(CANDIDATES, rouge)
+    assert scores["words per sentence alone"][1] == 17.0  # one sentence of 17 words
