@@ -40,9 +40,14 @@ def _stemmer():
     return PorterStemmer()
 
 
+@functools.lru_cache(maxsize=200_000)
+def stem(word: str) -> str:
+    """Porter stem of a lowercased word (cached: documents repeat their words)."""
+    return _stemmer().stem(word)
+
+
 def terms(text: str) -> list[str]:
     """Lowercased, stop words removed, Porter-stemmed word tokens."""
-    stem = _stemmer().stem
     return [stem(w) for w in words(text) if w not in STOPWORDS and len(w) > 1]
 
 

@@ -9,12 +9,21 @@ Selection maximises the budgeted submodular objective of Lin & Bilmes (2011),
 ``L(S) = sum_i min(C_i(S), alpha * C_i(V))`` (``C_i(S)`` = similarity of sentence i to the
 selection) and the diversity reward ``R(S) = sum_k sqrt(sum_{j in S, j in P_k} r_j)`` over
 clusters ``P_k`` of the sentences (k-means on the vectors), where ``r_j`` is the sentence's
-salience. The greedy step takes the sentence with the best gain per cost^``scale_power``
+salience. A third, concept term joins them when ``concept_weight`` is above 0: the weighted
+coverage of the document's recurring word bigrams, the "concepts" of Gillick & Favre (2009, "A
+scalable global model for summarization"): ``K(S) = sum of w_c over the concepts c that some
+sentence of S contains``, ``w_c`` = the number of sentences containing c, bigrams of two stop
+words and those in fewer than ``concept_min_count`` sentences left out. It is a weighted coverage
+function, so monotone submodular, and the sum stays submodular (Lin & Bilmes 2011). It is scaled
+so that covering every concept is worth ``concept_weight`` times the largest value of ``L``.
+The greedy step takes the sentence with the best gain per cost^``scale_power``
 (cost = words) that still fits, and the result is compared with the best single sentence,
 as in their Algorithm 1. Sentences come back in document order.
 """
 
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -99,9 +108,55 @@ def clusters(vectors: np.ndarray, k: int, seed: int = 0, iters: int = 20) -> np.
     return labels
 
 
+@dataclass(frozen=True)
+class Concepts:
+    """The concepts (recurring word bigrams) of a document's sentences, for the concept term.
+
+    ``weights[c]`` is concept c's weight (the number of sentences containing it); sentence i
+    contains the concepts ``ids[offsets[i]:offsets[i + 1]]``."""
+
+    weights: np.ndarray
+    ids: np.ndarray
+    offsets: np.ndarray
+
+    def gains(self, uncovered: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        """Weight of the not yet covered concepts each sentence in ``rows`` contains."""
+        if not len(self.ids):
+            return np.zeros(len(rows))
+        cumulative = np.concatenate(([0.0], np.cumsum(np.where(uncovered[self.ids], self.weights[self.ids], 0.0))))
+        return cumulative[self.offsets[rows + 1]] - cumulative[self.offsets[rows]]
+
+    def of(self, i: int) -> np.ndarray:
+        return self.ids[self.offsets[i]:self.offsets[i + 1]]
+
+
+def concepts(texts: list[str], min_count: int = 2) -> Concepts:
+    """Gillick & Favre's (2009) concepts of each sentence: Porter-stemmed word bigrams, not both
+    stop words, that occur in at least ``min_count`` sentences; weight = that number."""
+    from collections import Counter
+
+    from summarize.embed import STOPWORDS, stem, words
+
+    bags = []
+    for text in texts:
+        tokens = words(text)
+        bags.append({(stem(x), stem(y)) for x, y in zip(tokens, tokens[1:]) if not (x in STOPWORDS and y in STOPWORDS)})
+    counts = Counter(c for bag in bags for c in bag)
+    index = {c: n for n, c in enumerate(c for c, k in counts.items() if k >= min_count)}
+    weights = np.zeros(len(index))
+    for c, n in index.items():
+        weights[n] = counts[c]
+    per = [sorted(index[c] for c in bag if c in index) for bag in bags]
+    offsets = np.concatenate(([0], np.cumsum([len(p) for p in per]))).astype(int)
+    ids = np.array([c for p in per for c in p], dtype=int)
+    return Concepts(weights, ids, offsets)
+
+
 def select(sim: np.ndarray, salience: np.ndarray, costs: np.ndarray, budget: int, labels: np.ndarray,
-           config: ExtractConfig, start: list[int] | None = None, eligible: np.ndarray | None = None) -> list[int]:
-    """Lin & Bilmes (2011) budgeted greedy with cost scaling; returns sorted indices."""
+           config: ExtractConfig, start: list[int] | None = None, eligible: np.ndarray | None = None,
+           concepts: Concepts | None = None) -> list[int]:
+    """Lin & Bilmes (2011) budgeted greedy with cost scaling, plus the concept term when
+    ``concepts`` are given and ``config.concept_weight`` is above 0; returns sorted indices."""
     n = sim.shape[0]
     if n == 0:
         return []
@@ -110,18 +165,26 @@ def select(sim: np.ndarray, salience: np.ndarray, costs: np.ndarray, budget: int
     total = sim.sum(axis=1)
     cap = config.alpha * total
     k = labels.max() + 1
+    use_concepts = concepts is not None and config.concept_weight > 0 and concepts.weights.sum() > 0
+    # covering every concept is worth concept_weight times the most the coverage term can give
+    scale = cap.sum() if cap.sum() > 0 else 1.0
+    unit = config.concept_weight * scale / concepts.weights.sum() if use_concepts else 0.0
+    uncovered = np.ones(len(concepts.weights) if use_concepts else 0, dtype=bool)
 
-    def value(cover: np.ndarray, cluster_mass: np.ndarray) -> float:
-        return float(np.minimum(cover, cap).sum() + config.diversity * np.sqrt(cluster_mass).sum())
+    def value(cover: np.ndarray, cluster_mass: np.ndarray, open_concepts: np.ndarray) -> float:
+        held = unit * concepts.weights[~open_concepts].sum() if use_concepts else 0.0
+        return float(np.minimum(cover, cap).sum() + config.diversity * np.sqrt(cluster_mass).sum() + held)
 
     chosen = list(start or [])
     cover = sim[:, chosen].sum(axis=1) if chosen else np.zeros(n)
     mass = np.zeros(k)
     for j in chosen:
         mass[labels[j]] += reward[j]
+        if use_concepts:
+            uncovered[concepts.of(j)] = False
     used = int(costs[chosen].sum()) if chosen else 0
     eligible[chosen] = False
-    current = value(cover, mass)
+    current = value(cover, mass, uncovered)
     while True:
         room = budget - used
         fits = eligible & (costs <= room)
@@ -133,6 +196,8 @@ def select(sim: np.ndarray, salience: np.ndarray, costs: np.ndarray, budget: int
         new_mass = mass[labels[idx]] + reward[idx]
         div = np.sqrt(mass).sum() - np.sqrt(mass[labels[idx]]) + np.sqrt(new_mass)
         gains = new_cover + config.diversity * div - current
+        if use_concepts:
+            gains = gains + unit * (concepts.weights[~uncovered].sum() + concepts.gains(uncovered, idx))
         scaled = gains / np.power(costs[idx], config.scale_power)
         best = idx[int(np.argmax(scaled))]
         if gains[int(np.argmax(scaled))] <= 0:
@@ -140,18 +205,30 @@ def select(sim: np.ndarray, salience: np.ndarray, costs: np.ndarray, budget: int
         chosen.append(best)
         cover = cover + sim[:, best]
         mass[labels[best]] += reward[best]
+        if use_concepts:
+            uncovered[concepts.of(best)] = False
         used += int(costs[best])
         eligible[best] = False
-        current = value(cover, mass)
+        current = value(cover, mass, uncovered)
     # Lin & Bilmes: compare with the best single sentence that fits
     if not start:
         singles = np.flatnonzero((costs <= budget) & (eligible | np.isin(np.arange(n), chosen)))
         if len(singles):
-            vals = [value(sim[:, j].copy(), _mass_one(k, labels[j], reward[j])) for j in singles]
+            vals = [value(sim[:, j].copy(), _mass_one(k, labels[j], reward[j]), _open_one(concepts, j, use_concepts))
+                    for j in singles]
             j = singles[int(np.argmax(vals))]
             if max(vals) > current:
                 chosen = [int(j)]
     return sorted(int(j) for j in chosen)
+
+
+def _open_one(concepts: Concepts | None, j: int, use: bool) -> np.ndarray:
+    """The uncovered-concept mask after choosing sentence j alone."""
+    if not use:
+        return np.zeros(0, dtype=bool)
+    open_ = np.ones(len(concepts.weights), dtype=bool)
+    open_[concepts.of(j)] = False
+    return open_
 
 
 def _mass_one(k: int, label: int, r: float) -> np.ndarray:

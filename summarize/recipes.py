@@ -27,6 +27,8 @@ class ExtractConfig:
     min_words: int = 8  # shorter sentences (headings, fragments, short dialogue lines) are not picked
     quote_weight: float = 1.0  # salience factor for sentences that are mostly quoted speech
     max_words: int = 80
+    concept_weight: float = 2.0  # weight of the concept (recurring bigram) coverage term; 0 = off
+    concept_min_count: int = 2  # a bigram is a concept when this many sentences contain it
 
     def __post_init__(self):
         if not 0 <= self.embed_weight <= 1:
@@ -35,6 +37,8 @@ class ExtractConfig:
             raise ValueError(f"damping must lie in (0, 1), got {self.damping}")
         if self.alpha <= 0 or self.cluster_share <= 0:
             raise ValueError("alpha and cluster_share must be positive")
+        if self.concept_weight < 0 or self.concept_min_count < 1:
+            raise ValueError("concept_weight must be at least 0 and concept_min_count at least 1")
 
 
 @dataclass(frozen=True)

@@ -83,6 +83,15 @@ class Analysis:
     _parse: dict = field(default_factory=dict)
     _fluency: dict = field(default_factory=dict)
     _named: dict = field(default_factory=dict)  # sentence index -> the key words it names
+    _concepts: dict = field(default_factory=dict)  # minimum count -> extract.Concepts
+
+    def concepts(self, min_count: int):
+        """The sentences' concepts (``extract.concepts``), cached per minimum count."""
+        from summarize.extract import concepts
+
+        if min_count not in self._concepts:
+            self._concepts[min_count] = concepts(self.texts, min_count)
+        return self._concepts[min_count]
 
     def sim(self, embed_weight: float) -> np.ndarray:
         from summarize.extract import similarity
@@ -197,7 +206,7 @@ def build(analysis: Analysis, recipe: Recipe, budget: int, progress=None) -> Dra
             return mmr(sim, salience, masked, limit)
         if recipe.sections and a.n_sections >= 3:
             return _by_section(a, sim, salience, costs, limit, labels, cfg, allowed)
-        return select(sim, salience, costs, limit, labels, cfg, eligible=allowed)
+        return select(sim, salience, costs, limit, labels, cfg, eligible=allowed, concepts=a.concepts(cfg.concept_min_count))
 
     chosen = choose(a.costs, budget, eligible)
     off = _assemble(a, chosen, {}, {}, budget, salience, eligible, sim, labels, cfg)
@@ -230,7 +239,8 @@ def _assemble(a, chosen, texts, dropped, budget, salience, eligible, sim, labels
 
     costs = _costs(a, texts)
     chosen = _add_keywords(a, list(chosen), texts, costs, budget, eligible)
-    chosen = select(sim, salience, costs, budget, labels, cfg, start=chosen, eligible=eligible)
+    chosen = select(sim, salience, costs, budget, labels, cfg, start=chosen, eligible=eligible,
+                    concepts=a.concepts(cfg.concept_min_count))
     return _fill(a, chosen, texts, dropped, budget, salience, eligible)
 
 
@@ -295,11 +305,13 @@ def _by_section(a, sim, salience, costs, budget, labels, cfg, allowed) -> list[i
         mask = allowed & np.array([s.section == sec for s in a.sentences])
         if share <= 0 or not mask.any():
             continue
-        picked = select(sim, salience, costs, min(share, budget - used), labels, cfg, eligible=mask)
+        picked = select(sim, salience, costs, min(share, budget - used), labels, cfg, eligible=mask,
+                        concepts=a.concepts(cfg.concept_min_count))
         chosen += picked
         used += int(sum(costs[j] for j in picked))
     # leftover words: continue the global greedy from what the sections chose
-    rest = select(sim, salience, costs, budget, labels, cfg, start=chosen, eligible=allowed)
+    rest = select(sim, salience, costs, budget, labels, cfg, start=chosen, eligible=allowed,
+                  concepts=a.concepts(cfg.concept_min_count))
     return sorted(set(rest))
 
 
@@ -476,7 +488,7 @@ def by_sentences(analysis: Analysis, n: int) -> Draft:
     sim = a.sim(cfg.embed_weight)
     salience = pagerank(sim, cfg.damping) * priors(a.sentences, a.n_sections, a.headings, cfg)
     labels = _clusters(a, max(1, int(round(cfg.cluster_share * len(a.texts)))))
-    chosen = select(sim, salience, np.ones(len(a.texts)), n, labels, cfg)
+    chosen = select(sim, salience, np.ones(len(a.texts)), n, labels, cfg, concepts=a.concepts(cfg.concept_min_count))
     return Draft("by-sentences", tuple(SummarySentence(a.texts[i], i) for i in chosen))
 
 

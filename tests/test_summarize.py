@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from conftest import DEMO
 from summarize.cli import main
 from summarize.compress import Deletion, apply
-from summarize.extract import clusters, pagerank, select
+from summarize.extract import clusters, concepts, pagerank, select
 from summarize.pipeline import budget_for
 from summarize.recipes import ExtractConfig, RECIPES
 from summarize.search import FILL_TARGET, _complete, _cut, analyse, build
@@ -99,9 +99,62 @@ def test_submodular_selection_never_exceeds_the_budget(n, budget, seed):
     np.fill_diagonal(sim, 0)
     costs = rng.integers(1, 60, size=n)
     salience = pagerank(sim)
+    words = [f"w{k}" for k in rng.integers(0, 12, size=200)]
+    texts = [" ".join(words[10 * i: 10 * i + 10]) for i in range(n)]
+    for cfg in (ExtractConfig(), ExtractConfig(concept_weight=0.0)):
+        chosen = select(sim, salience, costs, budget, clusters(vectors, max(1, n // 5)), cfg, concepts=concepts(texts))
+        assert costs[chosen].sum() <= budget
+        assert chosen == sorted(chosen)
     chosen = select(sim, salience, costs, budget, clusters(vectors, max(1, n // 5)), ExtractConfig())
     assert costs[chosen].sum() <= budget
     assert chosen == sorted(chosen)
+
+
+def test_concepts_are_recurring_bigrams_weighted_by_sentence_count():
+    # Gillick & Favre (2009) (from memory): concepts are stemmed word bigrams, pairs of two stop
+    # words left out, weighted by how many units (here sentences) contain them.
+    texts = ["The river gauges rose at dawn.", "A river gauge failed in the storm.",
+             "Rain fell on the river gauge and the storm drains.", "Of the town, in the end."]
+    c = concepts(texts, min_count=2)
+    from summarize.embed import stem
+
+    # "river gauge(s)" in 3 sentences, "the river" and "the storm" in 2; "in the" and "of the"
+    # are two stop words; "at dawn", "storm drains" occur once
+    assert len(c.weights) == 3
+    heavy = int(np.argmax(c.weights))
+    assert sorted(c.weights) == [2, 2, 3]
+    assert [heavy in c.of(i) for i in range(4)] == [True, True, True, False]
+    assert len(c.of(3)) == 0
+    assert stem("gauges") == stem("gauge")  # the plural counts as the same concept
+    assert len(concepts(texts, min_count=4).weights) == 0
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.lists(st.integers(0, 9), max_size=6), min_size=1, max_size=12), st.integers(0, 2**10 - 1))
+def test_concept_gains_equal_the_weights_of_the_uncovered_concepts(bags, mask):
+    """Concepts.gains (prefix sums over a flat index) against a direct sum over each sentence."""
+    texts = [" ".join(f"w{a} x{a}" for a in bag) for bag in bags]  # bigram "wA xA" per item
+    c = concepts(texts, min_count=1)
+    uncovered = np.array([(mask >> n) & 1 == 1 for n in range(len(c.weights))], dtype=bool)
+    rows = np.arange(len(texts))
+    expected = [sum(c.weights[k] for k in c.of(i) if uncovered[k]) for i in rows]
+    assert np.allclose(c.gains(uncovered, rows), expected)
+
+
+def test_concept_term_picks_the_sentence_covering_the_recurring_bigrams():
+    texts = ["Flood gates closed at the harbour wall.", "The pump station lost power twice.",
+             "Flood gates jammed when the pump station lost power.", "Gulls circled over quiet water.",
+             "Flood gates and the pump station were inspected."]
+    n = len(texts)
+    sim = np.full((n, n), 0.1) - 0.1 * np.eye(n)
+    costs = np.array([8, 8, 8, 8, 8])
+    salience = np.ones(n)
+    labels = np.arange(n)
+    cfg = ExtractConfig(diversity=0.0, concept_weight=2.0)
+    picked = select(sim, salience, costs, 8, labels, cfg, concepts=concepts(texts))
+    assert picked == [2]  # names "flood gates", "pump station" and "lost power"
+    off = select(sim, salience, costs, 8, labels, ExtractConfig(diversity=0.0, concept_weight=0.0), concepts=concepts(texts))
+    assert off == [0]  # without the term every sentence is worth the same: the first wins
 
 
 def test_pagerank_symmetric_triangle_is_uniform():
