@@ -16,6 +16,10 @@ Two other reference-free signals are set beside agreement:
   no smoothing), lower = closer to the source, the measure Louis & Nenkova (2013, "Automatically
   assessing machine summary content without a gold standard") found to track content scores
   best among their input-summary comparisons; it needs the stories' text (../shared/data);
+- *concept score*: the weight of the source's concepts (``summarize.extract.concepts``: word
+  bigrams in two or more of its sentences, weighted by how many) that the candidate contains,
+  the objective of Gillick & Favre (2009) read as a reference-free content score; it needs the
+  stories' text too;
 - *words per sentence*: the candidate's words over its sentences (``summarize.segment``). Fiction
   summaries built of long sentences carry fewer dialogue lines and short fragments; this is a
   style signal, not a content one.
@@ -65,6 +69,23 @@ def js_divergence(p: Counter, q: Counter) -> float:
     return total
 
 
+_CONCEPTS: dict[int, dict] = {}
+
+
+def concept_score(source: str, text: str) -> float:
+    """Weight of the source's concepts (bigrams in 2+ of its sentences, weighted by how many;
+    Gillick & Favre 2009) that ``text`` contains."""
+    from summarize.extract import bigrams
+    from summarize.segment import split_sentences
+
+    key = hash(source)
+    if key not in _CONCEPTS:
+        counts = Counter(b for s in split_sentences(source) for b in bigrams(s))
+        _CONCEPTS[key] = {b: n for b, n in counts.items() if n >= 2}
+    weights = _CONCEPTS[key]
+    return float(sum(weights.get(b, 0) for b in bigrams(text)))
+
+
 def words_per_sentence(text: str) -> float:
     from summarize.segment import count_words, split_sentences
 
@@ -109,6 +130,10 @@ def story_scores(candidates: list[dict], rouge, source: str | None = None) -> di
         out["source divergence alone (-JS)"] = closeness
         for w in (0.25, 0.5):
             out[f"z agreement rouge2 F1 + {w} z(-JS)"] = [a + w * d for a, d in zip(agreement, _z(closeness))]
+        held = [concept_score(source, c["text"]) for c in candidates]
+        out["concept score alone"] = held
+        for w in (0.5, 1.0):
+            out[f"z agreement rouge2 F1 + {w} z concept score"] = [a + w * d for a, d in zip(agreement, _z(held))]
     out["coverage alone"] = [c["coverage"] for c in candidates]
     out["combined score saved by the run"] = [c["combined"] for c in candidates]
     return out

@@ -77,8 +77,9 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
     """Condense SOURCE (txt, md, html, pdf, docx, or - for stdin) to a word budget.
 
     \b
-    boildown extracts salient, non-redundant sentences, deletes low-value phrases
-    so the summary fills the budget exactly, builds several candidates that trade
+    boildown extracts salient, non-redundant sentences that carry the phrases the
+    document keeps coming back to, deletes low-value phrases so the summary fills
+    the budget exactly, builds several candidates that trade
     coverage, fluency and redundancy differently, scores each, and prints the best:
     the one with the highest combined score (see `boildown score --help`).
 

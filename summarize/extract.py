@@ -130,17 +130,20 @@ class Concepts:
         return self.ids[self.offsets[i]:self.offsets[i + 1]]
 
 
+def bigrams(text: str) -> set[tuple[str, str]]:
+    """A text's candidate concepts: its Porter-stemmed word bigrams that are not two stop words."""
+    from summarize.embed import STOPWORDS, stem, words
+
+    tokens = words(text)
+    return {(stem(x), stem(y)) for x, y in zip(tokens, tokens[1:]) if not (x in STOPWORDS and y in STOPWORDS)}
+
+
 def concepts(texts: list[str], min_count: int = 2) -> Concepts:
     """Gillick & Favre's (2009) concepts of each sentence: Porter-stemmed word bigrams, not both
     stop words, that occur in at least ``min_count`` sentences; weight = that number."""
     from collections import Counter
 
-    from summarize.embed import STOPWORDS, stem, words
-
-    bags = []
-    for text in texts:
-        tokens = words(text)
-        bags.append({(stem(x), stem(y)) for x, y in zip(tokens, tokens[1:]) if not (x in STOPWORDS and y in STOPWORDS)})
+    bags = [bigrams(text) for text in texts]
     counts = Counter(c for bag in bags for c in bag)
     index = {c: n for n, c in enumerate(c for c, k in counts.items() if k >= min_count)}
     weights = np.zeros(len(index))

@@ -78,3 +78,6 @@ def test_source_orderings_prefer_the_candidate_closest_to_the_source(rouge):
     assert closeness[3] == min(closeness)  # the pear sentence shares no term with the ferry story
     assert "source divergence alone (-JS)" not in story_scores(CANDIDATES, rouge)
     assert scores["words per sentence alone"][1] == 17.0  # one sentence of 17 words
+    held = scores["concept score alone"]
+    # the pear sentence repeats only "the valley" (in 2 source sentences); the ferry ones far more
+    assert held[3] == 2.0 and min(held[:3]) > 10
