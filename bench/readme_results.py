@@ -83,7 +83,8 @@ def coverage_speed() -> list[str]:
         f"| ten candidates of the 5,000-word source | {d['ten_candidates_s']:.2f} "
         f"(**{d['ratio_ten_to_one']:.1f}x** one) | at most 10x |",
         "",
-        f"Effective throughput {d['effective_gflops']:.0f} GFLOPS (bf16) against a bf16 matmul peak of "
+        f"Effective throughput {d['effective_gflops']:.0f} GFLOPS ({_short(d.get('dtype', 'bfloat16'))}) against a "
+        f"{_short(d.get('dtype', 'bfloat16'))} matmul peak of "
         f"{d['matmul_peak_gflops']:.0f} GFLOPS measured in the same run ({100 * d['effective_gflops'] / d['matmul_peak_gflops']:.0f}%; "
         f"fp32 peak {d['matmul_peak_fp32_gflops']:.0f}). Only the left context of each key word is read, "
         "so cost grows with the number of key words more than with the document's length.",
@@ -320,6 +321,14 @@ def ranking_and_compression() -> list[str]:
     return out
 
 
+def _short(dtype: str) -> str:
+    return {"bfloat16": "bf16", "float32": "fp32"}.get(dtype, dtype)
+
+
+def _gflops(x: float) -> str:
+    return f"{x:.0f}" if x >= 10 else f"{x:.1f}"
+
+
 def summarizer() -> list[str]:
     out = ["### Summarizer speed, memory and the budget", ""]
     d = load("summarize_speed")
@@ -333,8 +342,9 @@ def summarizer() -> list[str]:
                 f"{b['20000']['candidates_scored']} | at most 4.5x |", "",
                 f"Peak resident memory {d['peak_rss_gb']:.2f} GB (target at most 3 GB)." + (
                     f" The same run measured this machine's matrix multiply at {d['matmul_fp32_gflops']:.0f} GFLOPS "
-                    f"fp32 and {d['matmul_bf16_gflops']:.0f} bf16 (`bench/common.py`; coverage, most of the time, "
-                    "runs in bf16): the times scale roughly with these from one machine to another."
+                    f"fp32 and {_gflops(d['matmul_bf16_gflops'])} bf16 (`bench/common.py`); the models ran in "
+                    f"{_short(d.get('dtype', 'bfloat16'))} (coverage, most of the time, runs in that dtype): the times "
+                    "scale roughly with that figure from one machine to another."
                     if d.get("matmul_bf16_gflops") else ""), ""]
     d = load("budget_check")
     if d:

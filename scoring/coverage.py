@@ -65,7 +65,7 @@ class CoverageConfig:
     headline: str = "logprob"
     mode: str = "middle"
     lowercase: bool = True
-    dtype: str = "bfloat16"
+    dtype: str = "auto"  # "auto": bfloat16 where the CPU runs it fast, else float32 (models.fast_dtype)
     blank: str = "___"
     filler: str = "."
     prefix_bucket: int = 32
@@ -77,8 +77,8 @@ class CoverageConfig:
             raise ValueError(f"mode must be one of {MODES}, got {self.mode!r}")
         if self.headline not in HEADLINES:
             raise ValueError(f"headline must be one of {HEADLINES}, got {self.headline!r}")
-        if self.dtype not in ("float32", "bfloat16"):
-            raise ValueError(f"dtype must be float32 or bfloat16, got {self.dtype!r}")
+        if self.dtype not in ("auto", "float32", "bfloat16"):
+            raise ValueError(f"dtype must be auto, float32 or bfloat16, got {self.dtype!r}")
         for name in ("keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "row_tokens", "batch_tokens"):
             if getattr(self, name) < 1:
                 raise ValueError(f"{name} must be at least 1, got {getattr(self, name)}")
@@ -201,14 +201,14 @@ class CoverageScorer:
         return results
 
     def signature(self) -> Signature:
-        from scoring.models import short_checksum
+        from scoring.models import resolve_dtype, short_checksum
 
         c = self.config
         return Signature.build(
             "coverage",
             {
                 "model": f"smollm2-135m@{short_checksum('causal')}",
-                "dtype": c.dtype,
+                "dtype": resolve_dtype(c.dtype),  # the dtype the model runs in, "auto" resolved
                 "keys": c.keywords,
                 "mode": c.mode,
                 "window": c.window,

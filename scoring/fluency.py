@@ -47,7 +47,7 @@ class FluencyConfig:
     flag_gap: float = 1.5
     flag_penalty: float = 0.5
     reference_sentences: int = 24
-    dtype: str = "bfloat16"
+    dtype: str = "auto"  # "auto": bfloat16 where the CPU runs it fast, else float32 (models.fast_dtype)
     batch_tokens: int = 4096
 
     def __post_init__(self):
@@ -57,8 +57,8 @@ class FluencyConfig:
             raise ValueError(f"flag_penalty must lie in [0, 1], got {self.flag_penalty}")
         if self.reference_sentences < 1:
             raise ValueError("reference_sentences must be at least 1")
-        if self.dtype not in ("float32", "bfloat16"):
-            raise ValueError(f"dtype must be float32 or bfloat16, got {self.dtype!r}")
+        if self.dtype not in ("auto", "float32", "bfloat16"):
+            raise ValueError(f"dtype must be auto, float32 or bfloat16, got {self.dtype!r}")
 
 
 @dataclass(frozen=True)
@@ -100,7 +100,7 @@ def perplexity(logprobs: list[float]) -> float:
 class CausalTokenModel:
     """The packaged causal model behind the TokenModel protocol (batched, one pass per text)."""
 
-    def __init__(self, dtype: str = "bfloat16", batch_tokens: int = 4096):
+    def __init__(self, dtype: str = "auto", batch_tokens: int = 4096):
         self.dtype = dtype
         self.batch_tokens = batch_tokens
 
@@ -178,13 +178,14 @@ class FluencyScorer:
         self._references: dict[str, float] = {}
 
     def signature(self) -> Signature:
-        from scoring.models import short_checksum
+        from scoring.models import resolve_dtype, short_checksum
 
         c = self.config
-        name = "smollm2-135m@" + short_checksum("causal") if isinstance(self.model, CausalTokenModel) else type(self.model).__name__
+        real = isinstance(self.model, CausalTokenModel)
+        name = "smollm2-135m@" + short_checksum("causal") if real else type(self.model).__name__
         return Signature.build(
             "fluency",
-            {"model": name, "dtype": c.dtype, "scale": c.scale, "flag": c.flag_gap, "ref": f"source:{c.reference_sentences}"},
+            {"model": name, "dtype": resolve_dtype(self.model.dtype) if real else c.dtype, "scale": c.scale, "flag": c.flag_gap, "ref": f"source:{c.reference_sentences}"},
             ("torch", "transformers", "spacy"),
         )
 

@@ -1,8 +1,9 @@
 """Sentence vectors: MiniLM embeddings (mean-pooled, unit length) and tf-idf vectors.
 
-Both feed the similarity graph of extraction. Embeddings run in bfloat16 where the CPU
-supports it (about 2.8x faster here than float32; cosine similarities change in the third
-decimal), batched by length, and are cached per text within a process.
+Both feed the similarity graph of extraction. Embeddings run in bfloat16 where the CPU runs it
+fast (``scoring.models.fast_dtype``; about 2.8x faster than float32 on a CPU with AVX-512 BF16,
+cosine similarities change in the third decimal), else in float32; batched by length, and cached
+per text within a process.
 """
 
 from __future__ import annotations
@@ -73,7 +74,9 @@ def _encoder():
 
     loaded = load_encoder()
     model = loaded.model
-    if torch.backends.mkldnn.is_available():
+    from scoring.models import fast_dtype
+
+    if fast_dtype() == "bfloat16":
         import copy
 
         model = copy.deepcopy(model).to(torch.bfloat16).eval()

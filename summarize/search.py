@@ -402,7 +402,7 @@ def _price_fluency(a: Analysis) -> None:
 def _token_model():
     from scoring.fluency import CausalTokenModel
 
-    return CausalTokenModel("bfloat16")
+    return CausalTokenModel("auto")
 
 
 def _mean(values: list[float]) -> float:

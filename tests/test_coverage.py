@@ -68,11 +68,11 @@ def test_order_copy_good_unrelated():
 @pytest.mark.models
 def test_signature_text():
     from scoring.base import package_version
-    from scoring.models import short_checksum
+    from scoring.models import fast_dtype, short_checksum
 
     sig = str(CoverageScorer().signature())
     assert sig == (
-        f"coverage|model:smollm2-135m@{short_checksum('causal')}|dtype:bfloat16|keys:40|mode:middle|window:32|"
+        f"coverage|model:smollm2-135m@{short_checksum('causal')}|dtype:{fast_dtype()}|keys:40|mode:middle|window:32|"
         f"blanks:240|perkey:6|head:logprob|lower:yes|torch:{package_version('torch')}|"
         f"hf:{package_version('transformers')}|spacy:{package_version('spacy')}|v:{package_version('boildown')}"
     )

@@ -134,3 +134,38 @@ def test_corrupt_converted_copy_is_rebuilt(tmp_path, monkeypatch):
 def test_python_dash_m_runs_the_same_command_line():
     out = subprocess.run([sys.executable, "-m", "summarize", "--help"], capture_output=True, text=True, check=True)
     assert "summarize" in out.stdout and "score" in out.stdout and "qualified person" in out.stdout
+
+
+def test_dtype_choice_keeps_bfloat16_only_where_it_is_fast():
+    # a CPU that emulates bfloat16 (measured here: 0.3 GFLOPS against 176 in float32) gets float32
+    assert models.pick_dtype(seconds_bf16=0.5, seconds_fp32=0.001) == "float32"
+    assert models.pick_dtype(seconds_bf16=0.0004, seconds_fp32=0.001) == "bfloat16"
+    assert models.pick_dtype(seconds_bf16=0.0012, seconds_fp32=0.001) == "bfloat16"  # within the tolerance
+    assert models.resolve_dtype("float32") == "float32"
+    with pytest.raises(ValueError):
+        models.resolve_dtype("float16")
+
+
+@pytest.mark.parametrize("forced", ["float32", "bfloat16"])
+def test_dtype_can_be_forced(monkeypatch, forced):
+    monkeypatch.setenv("BOILDOWN_DTYPE", forced)
+    models.fast_dtype.cache_clear()
+    try:
+        assert models.resolve_dtype("auto") == forced
+    finally:
+        models.fast_dtype.cache_clear()
+
+
+def test_a_bad_forced_dtype_is_a_clear_error(monkeypatch):
+    monkeypatch.setenv("BOILDOWN_DTYPE", "half")
+    models.fast_dtype.cache_clear()
+    try:
+        with pytest.raises(models.ModelError, match="BOILDOWN_DTYPE"):
+            models.fast_dtype()
+    finally:
+        models.fast_dtype.cache_clear()
+
+
+def test_auto_dtype_is_measured_on_this_cpu():
+    models.fast_dtype.cache_clear()
+    assert models.fast_dtype() in ("float32", "bfloat16")
