@@ -239,7 +239,11 @@ def ranking_and_compression() -> list[str]:
                     f"{tuning['mean_kendall_tau_agreement_alone']:.3f} and coverage with fluency alone "
                     f"{tuning['mean_kendall_tau_coverage_and_fluency']:.3f} "
                     "(`.venv/bin/python bench/quality.py --parts ranking --ranking-split train --limit 30 "
-                    "--name ranking_tuning_train`).", ""]
+                    "--name ranking_tuning_train`)" + (
+                        f"; those train candidates were made by earlier code (commit {tr_commit}), so the "
+                        "weights were not re-checked on the current candidates" if (tr_commit := (load(
+                            "ranking_tuning_train") or {}).get("commit")) and tr_commit != d.get("commit") else "")
+                    + ".", ""]
         alternatives = load("ranking_measures") or {}
         measures = alternatives.get("mean_kendall_tau") or {}
         kept = measures.get("agreement rouge2 fmeasure", {})
@@ -278,7 +282,10 @@ def ranking_and_compression() -> list[str]:
                     "summary agrees with ROUGE-2 against the other three at only "
                     f"{ctx['mean_kendall_tau_one_reference_vs_the_others']:.3f} over the same candidates: the "
                     "candidates of one story are close, and at this distance one person's summary agrees only "
-                    "moderately with the others' on how to order them.", ""]
+                    "moderately with the others' on how to order them." + (
+                        " Most of the agreement comes from telling boildown's candidates apart from LEAD and "
+                        "TextRank; among boildown's own candidates the order is only loosely right."
+                        if ctx["mean_kendall_tau_boildown_candidates_only"] < 0.3 else ""), ""]
         if r.get("rouge2_of_top_ranked_boildown_candidate") is not None:
             out += ["Ranked within the whole pool (agreement taken with LEAD and TextRank among the others), the "
                     f"top-ranked boildown candidate has ROUGE-2 {r['rouge2_of_top_ranked_boildown_candidate']:.2f} "
