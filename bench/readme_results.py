@@ -258,7 +258,10 @@ def ranking_and_compression() -> list[str]:
                     + f", against {kept['train']:.3f} for ROUGE-2 F1 agreement (dev {kept['dev']:.3f}); " + (
                         "the measure in use stays, since none is ahead of it on train by more than 0.02."
                         if tried[best]["train"] - kept["train"] <= 0.02 else
-                        "**that one is ahead on train and has not been adopted yet**."), ""]
+                        f"**that one is ahead on train (by {tried[best]['train'] - kept['train']:.3f}) and has not "
+                        "been adopted yet**" + ("" if (load("ranking_tuning_train") or {}).get("commit") == d.get("commit")
+                                                else ": it should first be checked on train candidates made by the "
+                                                     "current code") + "."), ""]
         pick = alternatives.get("rouge2_of_pick") or {}
         if all(k in pick for k in ("combined score (agreement, coverage, fluency)", "TextRank",
                                    "coverage and fluency (earlier combined score)")):
