@@ -231,7 +231,10 @@ def ranking_and_compression() -> list[str]:
                 "TextRank at the same budget, ranked by boildown's combined score and by ROUGE-2 F1 against the "
                 f"human summaries: mean Kendall tau **{r['mean_kendall_tau']:.3f}** (goal above 0.3"
                 + ("" if met else "; **not met**") + f"; {when(d)}, commit {d.get('commit') or 'not recorded'}, {cmd}).", ""]
-        tuning = (load("ranking_tuning_train") or {}).get("results", {}).get("ranking_squality_train")
+        tuning_run = load("ranking_tuning_train") or {}
+        tuning = tuning_run.get("results", {}).get("ranking_squality_train")
+        # the tuning candidates were made by other code than the reported ones
+        stale = tuning_run.get("commit") is not None and tuning_run.get("commit") != d.get("commit")
         if tuning and tuning.get("mean_kendall_tau_agreement_alone") is not None:
             out += ["The combined score is half *agreement* (each candidate's mean ROUGE-2 F1 against the other "
                     "candidates) and half coverage and fluency; those weights were chosen on "
@@ -240,9 +243,8 @@ def ranking_and_compression() -> list[str]:
                     f"{tuning['mean_kendall_tau_coverage_and_fluency']:.3f} "
                     "(`.venv/bin/python bench/quality.py --parts ranking --ranking-split train --limit 30 "
                     "--name ranking_tuning_train`)" + (
-                        f"; those train candidates were made by earlier code (commit {tr_commit}), so the "
-                        "weights were not re-checked on the current candidates" if (tr_commit := (load(
-                            "ranking_tuning_train") or {}).get("commit")) and tr_commit != d.get("commit") else "")
+                        f"; those train candidates were made by earlier code (commit {tuning_run['commit']}), so "
+                        "the weights were not re-checked on the current candidates" if stale else "")
                     + ".", ""]
         alternatives = load("ranking_measures") or {}
         measures = alternatives.get("mean_kendall_tau") or {}
@@ -259,9 +261,8 @@ def ranking_and_compression() -> list[str]:
                         "the measure in use stays, since none is ahead of it on train by more than 0.02."
                         if tried[best]["train"] - kept["train"] <= 0.02 else
                         f"**that one is ahead on train (by {tried[best]['train'] - kept['train']:.3f}) and has not "
-                        "been adopted yet**" + ("" if (load("ranking_tuning_train") or {}).get("commit") == d.get("commit")
-                                                else ": it should first be checked on train candidates made by the "
-                                                     "current code") + "."), ""]
+                        "been adopted yet**" + (": it should first be checked on train candidates made by the "
+                                                "current code" if stale else "") + "."), ""]
         pick = alternatives.get("rouge2_of_pick") or {}
         if all(k in pick for k in ("combined score (agreement, coverage, fluency)", "TextRank",
                                    "coverage and fluency (earlier combined score)")):
@@ -357,9 +358,8 @@ def summarizer() -> list[str]:
                     "scale roughly with that figure from one machine to another."
                     if d.get("matmul_bf16_gflops") else "")
                 + (f" Runs per length: {len(b['5000']['runs'])}." if len(b["5000"]["runs"]) < 3 else "")
-                + (" **The 30 s target is missed on this machine**: the models run in float32 here, this CPU"
-                   " having no fast bfloat16 (on an earlier machine with native bfloat16, 424 GFLOPS, the"
-                   " same benchmark took 29.0 s)." if b["5000"]["median_s"] > 30 else ""), ""]
+                + (f" **The 30 s target is missed on this machine** (models in {_short(d.get('dtype', 'bfloat16'))})."
+                   if b["5000"]["median_s"] > 30 else ""), ""]
     d = load("budget_check")
     if d:
         out += [f"Budget: {d['drafts']} drafts (every recipe) over {d['documents']} documents at 50, 100, 150, "
