@@ -32,6 +32,7 @@ import math
 from dataclasses import dataclass, field
 
 from scoring.base import Signature
+from scoring.batching import length_batches
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
 
 HEADLINES = ("logprob", "accuracy", "prob")
@@ -52,6 +53,9 @@ TEMPLATE = "{summary}\n\n"
 RECOVERED_SHARE = 0.4
 RECOVERED_GAIN = 2.0
 KNOWN_P = 0.25
+# summaries whose prefix passes run together (their caches are held at once: ~10 MB each for
+# 150 words)
+HEAD_GROUP = 16
 
 
 @dataclass(frozen=True)
@@ -191,13 +195,28 @@ class CoverageScorer:
         return self.score_many([summary], source=source)[0]
 
     def score_many(self, summaries: list[str], *, source: str) -> list[CoverageScore]:
-        """Score several summaries of one source; the plan and baselines are shared."""
+        """Score several summaries of one source; the plan and baselines are shared, and the
+        summaries' own passes over the prefix run together in batches (``HEAD_GROUP`` at a time)."""
         if not source or not source.strip():
             raise ValueError("the source is empty: nothing to cover")
         plan = self._plan(source)
+        sig = self.signature()
+        if not plan.positions:
+            return [_empty(plan, sig) for _ in summaries]
         results = []
-        for summary in summaries:
-            results.append(self._score_one(summary or "", plan))
+        for start in range(0, len(summaries), HEAD_GROUP):
+            group = [s or "" for s in summaries[start : start + HEAD_GROUP]]
+            prefixes = [self._prefix_ids(s) for s in group]
+            # the filler baselines this group needs and has not cached yet, then the summaries
+            missing = sorted({size for _, size in prefixes} - {k[1] for k in self._baselines if k[0] == plan.keyword_set.text_hash})
+            wanted = [self._prefix_ids("", size)[0] for size in missing]
+            wanted += [ids for (ids, _), s in zip(prefixes, group) if s.strip()]
+            passes = iter(self._runs(wanted, plan))
+            for size in missing:
+                self._baselines[(plan.keyword_set.text_hash, size)] = next(passes)
+            for s, (_, size) in zip(group, prefixes):
+                base = self._baselines[(plan.keyword_set.text_hash, size)]
+                results.append(_summarise(plan, base, next(passes) if s.strip() else base, self.config, sig))
         return results
 
     def signature(self) -> Signature:
@@ -291,45 +310,47 @@ class CoverageScorer:
         head = self._tokens(before) if before else []
         return head + pad + body[-size:] + self._tokens(after), size
 
-    def _baseline(self, plan: _Plan, size: int) -> _Pass:
-        key = (plan.keyword_set.text_hash, size)
-        if key not in self._baselines:
-            self._baselines[key] = self._run(self._prefix_ids("", size)[0], plan)
-        return self._baselines[key]
+    def _runs(self, prefixes: list[list[int]], plan: _Plan) -> list[_Pass]:
+        """One pass per prefix: the prefixes' key/value caches (prefixes of one length in one
+        batch), then every packed row of windows after each."""
+        import torch
 
-    def _score_one(self, summary: str, plan: _Plan) -> CoverageScore:
-        sig = self.signature()
-        if not plan.positions:
-            return _empty(plan, sig)
-        prefix, size = self._prefix_ids(summary)
-        base = self._baseline(plan, size)
-        if summary.strip():
-            run = self._run(prefix, plan)
-        else:
-            run = base
-        return _summarise(plan, base, run, self.config, sig)
+        model, _ = self._lm
+        out: list[_Pass | None] = [None] * len(prefixes)
+        by_length: dict[int, list[int]] = {}
+        for i, ids in enumerate(prefixes):
+            by_length.setdefault(len(ids), []).append(i)
+        for length, members in by_length.items():
+            step = max(1, self.config.batch_tokens // max(1, length))
+            for k in range(0, len(members), step):
+                chunk = members[k : k + step]
+                with torch.inference_mode():
+                    head = model.model(input_ids=torch.tensor([prefixes[i] for i in chunk]), use_cache=True).past_key_values
+                layers = [(layer.keys, layer.values) for layer in head.layers]
+                for row, i in enumerate(chunk):
+                    out[i] = self._rows([(key[row : row + 1], value[row : row + 1]) for key, value in layers], length, plan)
+        return out  # type: ignore[return-value]
 
-    def _run(self, prefix: list[int], plan: _Plan) -> _Pass:
-        """One pass: the prefix's key/value cache, then every packed row of windows after it."""
+    def _rows(self, head: list, start_pos: int, plan: _Plan) -> _Pass:
+        """Every packed row of windows read after one prefix's key/value cache ``head``."""
         import torch
         from transformers import DynamicCache
 
         model, _ = self._lm
         logprobs = [0.0] * len(plan.positions)
         hits = [False] * len(plan.positions)
+        lengths = [len(r[0]) for r in plan.rows]
         with torch.inference_mode():
-            head = model.model(input_ids=torch.tensor([prefix]), use_cache=True).past_key_values
-            start_pos = len(prefix)
-            for batch in _batches(list(range(len(plan.rows))), [len(r[0]) for r in plan.rows], self.config.batch_tokens):
-                width = max(len(plan.rows[j][0]) for j in batch)
+            # rows of like length share a batch, so little of a batch is padding
+            for batch in length_batches(lengths, self.config.batch_tokens):
+                width = max(lengths[j] for j in batch)
                 ids = torch.zeros((len(batch), width), dtype=torch.long)
                 for row, j in enumerate(batch):
-                    ids[row, : len(plan.rows[j][0])] = torch.tensor(plan.rows[j][0])
+                    ids[row, : lengths[j]] = torch.tensor(plan.rows[j][0])
                 # a fresh cache object per batch (the model appends to the one it is given)
                 cache = DynamicCache(
                     ddp_cache_data=[
-                        (layer.keys.expand(len(batch), -1, -1, -1), layer.values.expand(len(batch), -1, -1, -1))
-                        for layer in head.layers
+                        (key.expand(len(batch), -1, -1, -1), value.expand(len(batch), -1, -1, -1)) for key, value in head
                     ]
                 )
                 positions = (start_pos + torch.arange(width)).unsqueeze(0).expand(len(batch), -1)
@@ -367,21 +388,6 @@ def _merge_windows(positions: list[int], window: int, length: int) -> list[tuple
         else:
             ranges.append([a, b])
     return [(a, b) for a, b in ranges]
-
-
-def _batches(order: list[int], lengths: list[int], budget: int) -> list[list[int]]:
-    """Group items (in order) so that rows x longest row stays within the token budget."""
-    batches: list[list[int]] = []
-    current: list[int] = []
-    for j in order:
-        width = max([lengths[j]] + [lengths[k] for k in current])
-        if current and width * (len(current) + 1) > budget:
-            batches.append(current)
-            current = []
-        current.append(j)
-    if current:
-        batches.append(current)
-    return batches
 
 
 def _pack(ranges, positions, ids, separator: list[int], row_tokens: int):

@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 from typing import Protocol
 
 from scoring.base import Signature
+from scoring.batching import length_batches
 
 # log PP of edited English prose under SmolLM2-135M (Q4_1 dequantised, bfloat16), each sentence
 # read on its own: median 4.65 over 1,253 sentences of the demo documents and 5.23 over 199
@@ -124,35 +125,40 @@ class CausalTokenModel:
                 ids.extend(part)
             encoded.append((ids, bounds))
         out: list[list[list[float]] | None] = [None] * len(encoded)
-        order = sorted(range(len(encoded)), key=lambda i: len(encoded[i][0]))
-        batch: list[int] = []
-
-        def flush():
-            width = max(len(encoded[i][0]) for i in batch)
+        lengths = [len(ids) for ids, _ in encoded]
+        for batch in length_batches(lengths, self.batch_tokens):
+            width = max(lengths[i] for i in batch)
             ids = torch.zeros((len(batch), width), dtype=torch.long)
             for row, i in enumerate(batch):
-                ids[row, : len(encoded[i][0])] = torch.tensor(encoded[i][0])
+                ids[row, : lengths[i]] = torch.tensor(encoded[i][0])
+            # the positions that predict a real token (the padding on the right is never read:
+            # the model is causal); the vocabulary layer runs on those alone, in slices
+            rows = torch.cat([torch.full((lengths[i] - 1,), row) for row, i in enumerate(batch)])
+            cols = torch.cat([torch.arange(lengths[i] - 1) for i in batch])
+            targets = ids[rows, cols + 1]
+            lp = torch.empty(len(rows))
             with torch.inference_mode():
-                logits = model(input_ids=ids).logits.float()
-                lp = torch.log_softmax(logits[:, :-1], dim=-1).gather(2, ids[:, 1:, None])[..., 0]
-            for row, i in enumerate(batch):
-                values = lp[row].tolist()
-                out[i] = [values[a - 1 : b - 1] for a, b in encoded[i][1]]
-
-        for i in order:
-            if batch and (len(batch) + 1) * len(encoded[i][0]) > self.batch_tokens:
-                flush()
-                batch = []
-            batch.append(i)
-        if batch:
-            flush()
+                hidden = model.model(input_ids=ids).last_hidden_state[rows, cols]
+                for k in range(0, len(rows), VOCAB_SLICE):
+                    logits = model.lm_head(hidden[k : k + VOCAB_SLICE]).float()
+                    picked = logits.gather(1, targets[k : k + VOCAB_SLICE, None])[:, 0]
+                    lp[k : k + VOCAB_SLICE] = picked - torch.logsumexp(logits, dim=-1)
+            values = lp.tolist()
+            at = 0
+            for i in batch:
+                mine = values[at : at + lengths[i] - 1]
+                at += lengths[i] - 1
+                out[i] = [mine[a - 1 : b - 1] for a, b in encoded[i][1]]
         return out  # type: ignore[return-value]
 
 
+# rows of the vocabulary layer computed at once (49,152 log-probabilities each)
+VOCAB_SLICE = 512
 _FINITE = {"VBD", "VBP", "VBZ", "MD"}
 _WORD = re.compile(r"[a-z0-9']+")
 
 
+@functools.lru_cache(maxsize=4096)
 def _has_verb(sentence: str) -> bool:
     """A finite verb, or an imperative (a base-form verb at the root). A participle alone
     ("The filters, installed last spring.") is what a deletion that removed the verb leaves."""

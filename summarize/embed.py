@@ -89,26 +89,17 @@ def embed(texts: list[str], batch_tokens: int = 8192, max_tokens: int = 256) -> 
 
     if not texts:
         return np.zeros((0, 384), dtype=np.float32)
-    model, tok = _encoder()
-    order = sorted(range(len(texts)), key=lambda i: len(texts[i]))
-    out = np.zeros((len(texts), model.config.hidden_size), dtype=np.float32)
-    batch: list[int] = []
+    from scoring.batching import length_batches
 
-    def flush():
-        enc = tok([texts[i] for i in batch], padding=True, truncation=True, max_length=max_tokens, return_tensors="pt")
+    model, tok = _encoder()
+    encoded = tok(texts, truncation=True, max_length=max_tokens)["input_ids"]
+    out = np.zeros((len(texts), model.config.hidden_size), dtype=np.float32)
+    for batch in length_batches([len(ids) for ids in encoded], batch_tokens):
+        enc = tok.pad({"input_ids": [encoded[i] for i in batch]}, return_tensors="pt")
         with torch.inference_mode():
             hidden = model(**enc).last_hidden_state.float()
         mask = enc["attention_mask"].unsqueeze(-1).float()
         pooled = (hidden * mask).sum(1) / mask.sum(1).clamp(min=1)
         pooled = torch.nn.functional.normalize(pooled, dim=-1)
         out[batch] = pooled.numpy()
-
-    for i in order:
-        est = min(max_tokens, len(texts[i]) // 3 + 2)
-        if batch and est * (len(batch) + 1) > batch_tokens:
-            flush()
-            batch = []
-        batch.append(i)
-    if batch:
-        flush()
     return out

@@ -82,11 +82,29 @@ def test_signature_text():
 def test_baseline_is_computed_once_per_document():
     scorer = CoverageScorer()
     calls = []
-    real = scorer._run
-    scorer._run = lambda prefix, plan: calls.append(len(prefix)) or real(prefix, plan)
+    real = scorer._rows
+    scorer._rows = lambda head, start, plan: calls.append(start) or real(head, start, plan)
     scorer.score_many([GOOD, GOOD + " " + GOOD[:40], UNRELATED], source=SOURCE)
     # three summary passes, and one filler pass per distinct filler length (32-token buckets)
     assert len(calls) <= 3 + 2
+    first = len(calls)
+    scorer.score_many([GOOD + " " + UNRELATED], source=SOURCE)
+    assert len(calls) - first in (1, 2)  # its own pass, and a baseline only if its bucket is new
+    scorer.score(GOOD, source=SOURCE)
+    assert len(calls) - first in (2, 3)  # the baseline of GOOD's bucket is cached
+
+
+@pytest.mark.models
+def test_summaries_scored_together_score_as_they_do_alone():
+    # the prefix passes of several summaries run as one batch; each score must not depend on
+    # which other summaries share that batch (float tolerance: batched matrix products may
+    # round differently)
+    texts = [GOOD, UNRELATED, GOOD[:60], ""]
+    together = CoverageScorer().score_many(texts, source=SOURCE)
+    for text, joint in zip(texts, together):
+        alone = CoverageScorer().score(text, source=SOURCE)
+        assert joint.value == pytest.approx(alone.value, abs=1e-3)
+        assert joint.share == pytest.approx(alone.share, abs=1e-3)
 
 
 @pytest.mark.models

@@ -112,3 +112,28 @@ def test_shuffled_sentences_score_lower():
     mixed = scorer.score_many(shuffled)
     lower = sum(m.value < o.value or (m.value == o.value and m.perplexity > o.perplexity) for o, m in zip(original, mixed))
     assert lower >= 190, f"only {lower}/200 shuffled sentences scored lower"
+
+
+@pytest.mark.models
+def test_batched_reads_equal_a_direct_log_softmax():
+    # The batched read (texts of unequal length padded on the right, the vocabulary layer run
+    # only where a real token is predicted, log-probabilities as logit - logsumexp) must give
+    # what torch.log_softmax over the model's full logits gives for each text read alone.
+    import torch
+
+    from scoring.fluency import CausalTokenModel
+
+    texts = [["The board met on Tuesday."], ["Rain fell.", "The reservoir rose by a third over the week."],
+             ["A much longer sentence about the pumping station, its two engines and the old canal."]]
+    model = CausalTokenModel("float32")
+    batched = model.logprobs(texts)
+    lm, tok = model._parts
+    bos = tok.convert_tokens_to_ids("<|endoftext|>")
+    for pieces, got in zip(texts, batched):
+        ids = [bos] + tok(" ".join(pieces), add_special_tokens=False).input_ids
+        with torch.inference_mode():
+            logits = lm(input_ids=torch.tensor([ids])).logits[0, :-1].float()
+        want = torch.log_softmax(logits, dim=-1).gather(1, torch.tensor(ids[1:])[:, None])[:, 0].tolist()
+        flat = [x for piece in got for x in piece]
+        assert len(flat) == len(want)
+        assert flat == pytest.approx(want, abs=1e-3)
