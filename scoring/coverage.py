@@ -203,19 +203,20 @@ class CoverageScorer:
         sig = self.signature()
         if not plan.positions:
             return [_empty(plan, sig) for _ in summaries]
+        doc = plan.keyword_set.text_hash
         results = []
         for start in range(0, len(summaries), HEAD_GROUP):
             group = [s or "" for s in summaries[start : start + HEAD_GROUP]]
             prefixes = [self._prefix_ids(s) for s in group]
             # the filler baselines this group needs and has not cached yet, then the summaries
-            missing = sorted({size for _, size in prefixes} - {k[1] for k in self._baselines if k[0] == plan.keyword_set.text_hash})
+            missing = sorted({size for _, size in prefixes if (doc, size) not in self._baselines})
             wanted = [self._prefix_ids("", size)[0] for size in missing]
             wanted += [ids for (ids, _), s in zip(prefixes, group) if s.strip()]
             passes = iter(self._runs(wanted, plan))
             for size in missing:
-                self._baselines[(plan.keyword_set.text_hash, size)] = next(passes)
+                self._baselines[(doc, size)] = next(passes)
             for s, (_, size) in zip(group, prefixes):
-                base = self._baselines[(plan.keyword_set.text_hash, size)]
+                base = self._baselines[(doc, size)]
                 results.append(_summarise(plan, base, next(passes) if s.strip() else base, self.config, sig))
         return results
 
