@@ -328,7 +328,7 @@ def _compress(a: Analysis, chosen: list[int], threshold: float) -> dict[int, lis
 
     found = _deletions(a, chosen)
     counts = _keyword_counts(a, "\n".join(a.texts[i] for i in chosen))
-    priced = []
+    usable = []
     for i, dels in found.items():
         for d in dels:
             held = _keyword_counts(a, d.text)
@@ -336,8 +336,9 @@ def _compress(a: Analysis, chosen: list[int], threshold: float) -> dict[int, lis
                 continue  # "At service reservoirs, coliforms were found": the phrase is the fact's scope
             if _keyword_loss(a, held, counts):
                 continue
-            priced.append((_fluency_cost(a, i, d) / max(1, d.words), i, d, held))
-    priced.sort(key=lambda x: x[0])
+            usable.append((i, d, held))
+    _price_fluency(a, [(i, d) for i, d, _ in usable])  # only the spans this call may delete go to the model
+    priced = sorted(((_fluency_cost(a, i, d) / max(1, d.words), i, d, held) for i, d, held in usable), key=lambda x: x[0])
     out: dict[int, list[Deletion]] = {i: [] for i in chosen}
     for per_word, i, d, held in priced:
         if per_word > threshold:
@@ -378,15 +379,17 @@ def _fluency_cost(a: Analysis, i: int, d: Deletion) -> float:
     """Drop in the causal model's mean token log-probability when the span goes (>= 0)."""
     key = (i, d.start, d.end)
     if key not in a._fluency:
-        _price_fluency(a)
+        _price_fluency(a, [(i, d)])
     return a._fluency.get(key, 1.0)
 
 
-def _price_fluency(a: Analysis) -> None:
-    """Batch every unpriced deletion of every parsed sentence through the causal model."""
+def _price_fluency(a: Analysis, wanted: list[tuple[int, Deletion]]) -> None:
+    """Batch the deletions in ``wanted`` not priced yet (and their sentences) through the causal
+    model. A span is priced the same whichever batch it is in, so pricing only what a recipe
+    may use changes no choice; spans that a key word keeps are never read at all."""
     from summarize.compress import apply
 
-    todo = [(i, d) for i, dels in a._parse.items() for d in dels if (i, d.start, d.end) not in a._fluency]
+    todo = list({(i, d.start, d.end): (i, d) for i, d in wanted if (i, d.start, d.end) not in a._fluency}.values())
     if not todo:
         return
     originals = sorted({i for i, _ in todo})

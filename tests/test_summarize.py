@@ -343,6 +343,36 @@ def test_compression_never_removes_the_last_mention_of_a_key_word():
     assert [d.kind for d in kept[0]] == ["parenthetical"]
 
 
+def test_spans_a_key_word_keeps_are_never_sent_to_the_model(monkeypatch):
+    # The same toy as above: the appositive holds the last "Tarrow", so _compress may not delete
+    # it and must not spend a model read pricing it; the parenthetical is priced, once, with
+    # its sentence (a stand-in model records what it is asked to read).
+    import summarize.search as search
+
+    texts = ["The survey, led by Tarrow in the upper basin, found low nitrate (about 2 mg/L) in wells.",
+             "Wells in the basin were sampled twice."]
+    a = _toy_analysis(texts, {"tarrow": 1.0, "basin": 0.5, "nitrate": 0.8},
+                      {"tarrow": ["Tarrow"], "basin": ["basin"], "nitrate": ["nitrate"]})
+    cut = texts[0].index(", found")
+    paren, after = texts[0].index(" (about"), texts[0].index(" in wells")
+    a._parse = {0: [Deletion(0, texts[0].index(", led by"), cut, "appositive", texts[0][texts[0].index(", led by"):cut]),
+                    Deletion(0, paren, after, "parenthetical", texts[0][paren:after])],
+                1: []}
+    read = []
+
+    class Recorder:
+        def logprobs(self, pieces):
+            read.extend(p[0] for p in pieces)
+            return [[[-1.0] * len(p[0].split())] for p in pieces]
+
+    monkeypatch.setattr(search, "_token_model", lambda: Recorder())
+    kept = search._compress(a, [0, 1], threshold=0.6)
+    assert [d.kind for d in kept[0]] == ["parenthetical"]
+    assert read == [texts[0], texts[0][:paren] + texts[0][after:]]
+    search._compress(a, [0, 1], threshold=0.6)
+    assert len(read) == 2  # priced once: the second call reads nothing
+
+
 def test_freed_words_go_to_a_sentence_naming_missing_key_words():
     # Room for one more 5-word sentence: the one naming the missing key word "Orlin" (salience
     # 0.9) beats one that repeats a key word already present and one that names none.
