@@ -332,6 +332,12 @@ def load_causal() -> LoadedModel:
     folder = convert_causal(progress=lambda msg: print(f"boildown: {msg}", file=sys.stderr))
     set_threads()
     _quiet_transformers()
+    # SmolLM2 has 9 query heads per 3 key/value heads: let scaled-dot-product attention group
+    # them itself instead of copying the keys and values three times (transformers does that
+    # on CPU only when told; the values are the same to the last digit, and scoring 8
+    # candidates of a 5,000-word source took about 1 s less here). "0" in the environment keeps
+    # the copying path.
+    os.environ.setdefault("TRANSFORMERS_SDPA_FORCE_GQA", "1")
     from transformers import AutoModelForCausalLM, AutoTokenizer
 
     try:

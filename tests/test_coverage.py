@@ -7,7 +7,7 @@ import json
 
 import pytest
 
-from scoring.coverage import RECOVERED_GAIN, RECOVERED_SHARE, CoverageConfig, CoverageScorer, KeywordEvidence, _merge_windows
+from scoring.coverage import RECOVERED_GAIN, RECOVERED_SHARE, CoverageConfig, CoverageScorer, KeywordEvidence, _dense_choice, _merge_windows
 from conftest import MEETING, shared_data
 
 SOURCE = MEETING
@@ -18,6 +18,16 @@ UNRELATED = "A village fete raised money for the lifeboat station; the cake stal
 def test_merge_windows():
     assert _merge_windows([5, 8, 30], 4, 40) == [(2, 9), (27, 31)]
     assert _merge_windows([], 4, 40) == []
+
+
+def test_dense_choice_worked_example():
+    # Worked by hand, windows of 100 characters before each occurrence. Key word 0 occurs at
+    # 100 and 1000 (middle = the first, index 0); key word 1 only at 1050; key word 2 at 3000 and
+    # 5000. Key word 0 moves to 1000, whose window (900-1000) shares 50 characters with key
+    # word 1's (950-1050); key word 2's windows touch nobody's, so it keeps its middle one.
+    assert _dense_choice([[100, 1000], [1050], [3000, 5000]], 100) == {0: 1, 1: 0, 2: 0}
+    # Nothing overlaps anywhere: the middle occurrences stay (as in mode "middle").
+    assert _dense_choice([[0, 1000, 2000], [5000, 6000, 7000, 8000]], 10) == {0: 1, 1: 1}
 
 
 @pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
@@ -105,6 +115,26 @@ def test_summaries_scored_together_score_as_they_do_alone():
         alone = CoverageScorer().score(text, source=SOURCE)
         assert joint.value == pytest.approx(alone.value, abs=1e-3)
         assert joint.share == pytest.approx(alone.share, abs=1e-3)
+
+
+@pytest.mark.models
+def test_grouped_query_attention_scores_as_the_copying_path(monkeypatch):
+    # load_causal lets attention group SmolLM2's query heads over the shared key/value heads
+    # (TRANSFORMERS_SDPA_FORCE_GQA=1) rather than copying keys and values per head; the two
+    # paths must give the same coverage (the switch is read at every attention call).
+    import os
+
+    from scoring.models import load_causal
+
+    load_causal()
+    assert os.environ.get("TRANSFORMERS_SDPA_FORCE_GQA") == "1"
+    texts = [GOOD, UNRELATED]
+    grouped = CoverageScorer().score_many(texts, source=SOURCE)
+    monkeypatch.setenv("TRANSFORMERS_SDPA_FORCE_GQA", "0")
+    copied = CoverageScorer().score_many(texts, source=SOURCE)
+    for a, b in zip(grouped, copied):
+        assert a.value == pytest.approx(b.value, abs=1e-4)
+        assert [k.p_with for k in a.keywords] == pytest.approx([k.p_with for k in b.keywords], rel=1e-3)
 
 
 @pytest.mark.models
