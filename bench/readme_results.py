@@ -404,7 +404,8 @@ def summarizer() -> list[str]:
                     "scale roughly with that figure from one machine to another."
                     if d.get("matmul_bf16_gflops") else "")
                 + f" Runs per length: {len(b['5000']['runs'])} (5,000 words: "
-                + ", ".join(f"{x:.1f}" for x in b["5000"]["runs"]) + " s)."
+                + ", ".join(f"{x:.1f}" for x in b["5000"]["runs"]) + " s); each starts cold for its source (fresh "
+                "scorers, the per-process caches of key words and verb checks emptied)."
                 + (f" **The 30 s target is missed on this machine** (models in {_short(d.get('dtype', 'bfloat16'))})."
                    if b["5000"]["median_s"] > 30 else ""), ""]
     d = load("budget_check")
