@@ -81,7 +81,8 @@ class Analysis:
     keyword_forms: dict = field(default_factory=dict)  # lemma -> pattern of its surface forms in this source
     _sim: dict = field(default_factory=dict)
     _parse: dict = field(default_factory=dict)
-    _fluency: dict = field(default_factory=dict)
+    _fluency: dict = field(default_factory=dict)  # (sentence, start, end) -> fluency cost of that deletion
+    _read: dict = field(default_factory=dict)  # sentence index -> its mean token log-probability read alone
     _named: dict = field(default_factory=dict)  # sentence index -> the key words it names
     _concepts: dict = field(default_factory=dict)  # minimum count -> extract.Concepts
 
@@ -392,13 +393,14 @@ def _price_fluency(a: Analysis, wanted: list[tuple[int, Deletion]]) -> None:
     todo = list({(i, d.start, d.end): (i, d) for i, d in wanted if (i, d.start, d.end) not in a._fluency}.values())
     if not todo:
         return
-    originals = sorted({i for i, _ in todo})
+    # a sentence is read alone once, however many calls price its deletions
+    originals = sorted({i for i, _ in todo if i not in a._read})
     texts = [[a.texts[i]] for i in originals] + [[apply(a.texts[i], [d])] for i, d in todo]
     scored = _token_model().logprobs(texts)
-    base = {i: _mean(scored[n][0]) for n, i in enumerate(originals)}
+    a._read.update({i: _mean(scored[n][0]) for n, i in enumerate(originals)})
     for n, (i, d) in enumerate(todo):
         after = _mean(scored[len(originals) + n][0])
-        a._fluency[(i, d.start, d.end)] = max(0.0, base[i] - after)
+        a._fluency[(i, d.start, d.end)] = max(0.0, a._read[i] - after)
 
 
 @functools.cache

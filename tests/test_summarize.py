@@ -371,6 +371,10 @@ def test_spans_a_key_word_keeps_are_never_sent_to_the_model(monkeypatch):
     assert read == [texts[0], texts[0][:paren] + texts[0][after:]]
     search._compress(a, [0, 1], threshold=0.6)
     assert len(read) == 2  # priced once: the second call reads nothing
+    # a span of the same sentence priced later (another recipe may delete it) is read without
+    # its sentence, which was read alone already
+    search._price_fluency(a, [(0, a._parse[0][0])])
+    assert read[2:] == [texts[0][:a._parse[0][0].start] + texts[0][cut:]]
 
 
 def test_freed_words_go_to_a_sentence_naming_missing_key_words():
