@@ -66,10 +66,16 @@ class Candidate:
     agreement: object | None = None  # AgreementScore (3 or more candidates)
     rank: int = 0
     extra: dict = field(default_factory=dict)
+    combine: CombineConfig = CombineConfig()  # the configuration that computed ``combined``
 
     @property
     def over_budget(self) -> bool:
         return self.budget is not None and self.words > self.budget
+
+    def signatures(self) -> tuple:
+        """The signature of every score this candidate carries, in report order."""
+        found = (self.coverage, self.fluency, self.agreement, self.rouge, self.bertscore)
+        return tuple(s.signature for s in found if s is not None)
 
     def to_dict(self) -> dict:
         out = {

@@ -88,6 +88,7 @@ class Evaluator:
                     rouge=rg,
                     bertscore=bs,
                     agreement=agr,
+                    combine=self.config.combine,
                 )
             )
         return rank(out)

@@ -278,12 +278,7 @@ def _check_provenance(provenance, pairs, n_source: int) -> None:
 
 
 def _signatures(ranked) -> tuple[Signature, ...]:
-    if not ranked:
-        return ()
-    c = ranked[0]
-    found = [c.coverage.signature, c.fluency.signature]
-    found += [s.signature for s in (c.rouge, c.bertscore) if s is not None]
-    return tuple(found)
+    return ranked[0].signatures() if ranked else ()
 
 
 def _alignment_note(links) -> str:

@@ -58,11 +58,9 @@ class Summary:
 
 
 def _scores(candidate) -> dict | None:
-    from scoring.combine import CombineConfig
-
     if candidate is None:
         return None
-    combine = CombineConfig()
+    combine = candidate.combine
     return {
         "combined": candidate.combined,
         "coverage": candidate.coverage.share,

@@ -118,17 +118,7 @@ def explanations(candidates, limit: int = 12) -> str:
 
 
 def signatures(candidates) -> str:
-    if not candidates:
-        return ""
-    c = candidates[0]
-    sigs = [c.coverage.signature, c.fluency.signature]
-    if c.agreement is not None:
-        sigs.append(c.agreement.signature)
-    if c.rouge is not None:
-        sigs.append(c.rouge.signature)
-    if c.bertscore is not None:
-        sigs.append(c.bertscore.signature)
-    return "\n".join(str(s) for s in sigs)
+    return "\n".join(str(s) for s in candidates[0].signatures()) if candidates else ""
 
 
 def _words(words, limit: int) -> str:

@@ -626,3 +626,17 @@ def test_compare_adds_boildowns_own_candidates_with_provenance(tmp_path):
 def test_compare_needs_candidates_or_summaries():
     result = CliRunner().invoke(main, ["compare", str(SOURCE)])
     assert result.exit_code == 2 and "--summaries" in result.output
+
+
+def test_comparison_signatures_include_agreement_when_it_is_in_the_combined_score():
+    """Agreement is half of the combined score with three or more candidates, so its signature
+    must be listed beside coverage's and fluency's (a defect found in review: it was dropped)."""
+    from dataclasses import replace
+
+    from scoring.agreement import AgreementScore
+
+    document = read_document(SOURCE)
+    agree = AgreementScore(0.3, 2, 1, 0.4, fake_signature("agreement", measure="rouge2"))
+    ranked = [replace(c, agreement=agree) for c in fake_ranked()]
+    cmp = comparing.assemble(document, ranked, fake_keyword_set(document.text), budget=60, name="source.md")
+    assert [s.name for s in cmp.signatures] == ["coverage", "fluency", "agreement", "align"]

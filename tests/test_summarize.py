@@ -436,3 +436,26 @@ def test_candidates_are_ranked_by_agreement_coverage_and_fluency():
         assert c.combined == pytest.approx(combined_score(c.coverage.share, c.fluency.value, c.agreement.value), abs=1e-6)
     assert result.scores.combined == max(c.combined for c in scored)
     assert result.text == result.candidates[0][0].text
+
+
+def test_summary_json_reports_the_combined_signature_of_the_config_that_scored_it(monkeypatch):
+    """A custom evaluator's weights must appear in the combined score's signature and formula
+    (a defect found in review: the JSON showed the default configuration's)."""
+    from scoring.combine import CombineConfig
+    from scoring.evaluate import EvalConfig, Evaluator
+    from summarize.pipeline import _scores
+    from scoring.base import Signature
+    from scoring.coverage import CoverageScore
+    from scoring.fluency import FluencyScore
+
+    custom = CombineConfig(w_agreement=0.2, w_coverage=0.6, w_fluency=0.2)
+    evaluator = Evaluator(EvalConfig(combine=custom))
+    sig = Signature("fake", ())
+    coverage = [CoverageScore(s, s, s, 0.0, 0.0, 0.0, 0.0, 3, 3, (), sig) for s in (0.5, 0.3)]
+    fluency = [FluencyScore(0.9, 20.0, 18.0, (), sig)] * 2
+    monkeypatch.setattr(evaluator.coverage, "score_many", lambda texts, source: coverage)
+    monkeypatch.setattr(evaluator.fluency, "score_many", lambda texts, source: fluency)
+    ranked = evaluator.evaluate([("a", "x"), ("b", "y")], source="The board met and approved the ban.")
+    signature = _scores(ranked[0])["signatures"]["combined"]
+    assert signature == custom.signature().to_dict() | {"formula": custom.describe(False)}
+    assert signature != CombineConfig().signature().to_dict() | {"formula": CombineConfig().describe(False)}
