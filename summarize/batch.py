@@ -56,11 +56,11 @@ from pathlib import Path
 from typing import Callable, ClassVar
 
 from summarize import reading
+from summarize.files import TMP_SUFFIX, fsync_dir, write_atomic
 
 MANIFEST_NAME = "manifest.jsonl"
 CSV_NAME = "manifest.csv"
 LOCK_NAME = ".boildown.lock"
-TMP_SUFFIX = ".boildown-tmp"
 SUMMARY_SUFFIX = ".summary.txt"
 ENGINES = ("local", "dask")
 MAX_DEFAULT_WORKERS = 4
@@ -71,13 +71,6 @@ DEFAULT_INCLUDE = tuple(f"*{suffix}" for suffix in reading._EXTENSIONS if suffix
 """The file types ``read_document`` reads (files without an extension are left out here, so
 a folder's README or LICENSE is not summarized; add ``--include`` patterns to take them)."""
 
-ASCII_SHARE_MIN = 0.5
-"""A file that is not valid UTF-8 is decoded with a guessed legacy encoding; when fewer than
-half of the resulting non-space characters are ASCII the guess produced something that is not
-English (English in cp1252 or Latin-1 is about 97-100% ASCII; random bytes read as big5 or
-cp1251 score under 10%), and the record says so instead of summarizing noise."""
-
-_UTF = frozenset({"utf-8", "utf-8-sig", "utf-16", "utf-32", "ascii"})
 _RETRIES_AFTER_WORKER_DEATH = 1
 
 
@@ -441,7 +434,7 @@ class Manifest:
             if unreadable:
                 notices.append(f"ignored {unreadable} unreadable line(s) in {self.path}")
         self._fd = os.open(self.path, os.O_WRONLY | os.O_APPEND | os.O_CREAT, 0o644)
-        _fsync_dir(self.out_dir)
+        fsync_dir(self.out_dir)
         return notices
 
     def close(self) -> None:
@@ -499,7 +492,7 @@ class Manifest:
             scores = record.get("scores") or {}
             row = {**record, **{k: scores.get(k) for k in ("combined", "coverage", "fluency", "agreement")}}
             writer.writerow(["" if row.get(c) is None else row.get(c) for c in CSV_COLUMNS])
-        _atomic_write(self.csv_path, buffer.getvalue())
+        write_atomic(self.csv_path, buffer.getvalue())
         return self.csv_path
 
 
@@ -644,33 +637,6 @@ def read_bytes(path: Path, rel: str) -> bytes:
     return data
 
 
-def _atomic_write(path: Path, text: str) -> None:
-    """Write ``text`` to a temporary file beside ``path``, fsync, then rename over ``path``."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name[:80]}.", suffix=TMP_SUFFIX, dir=path.parent)
-    try:
-        os.fchmod(fd, 0o644)
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
-    _fsync_dir(path.parent)
-
-
-def _fsync_dir(folder: Path) -> None:
-    with contextlib.suppress(OSError):
-        fd = os.open(folder, os.O_RDONLY)
-        try:
-            os.fsync(fd)
-        finally:
-            os.close(fd)
-
-
 def _remove_temp_files(out_dir: Path) -> int:
     removed = 0
     for folder, _dirs, files in os.walk(out_dir):
@@ -771,26 +737,6 @@ def _one_line(exc: BaseException) -> str:
     return text or type(exc).__name__
 
 
-def _text_problem(document, rel: str, any_language: bool) -> tuple[str | None, list[str]]:
-    """Refuse text the English models cannot use; warn about a guessed encoding."""
-    text = document.text
-    warnings = []
-    guessed = document.encoding is not None and document.encoding.lower() not in _UTF
-    if guessed:
-        visible = [c for c in text[:20000] if not c.isspace()]
-        share = sum(1 for c in visible if c.isascii()) / max(1, len(visible))
-        if share < ASCII_SHARE_MIN and not any_language:
-            return (f"'{rel}' is not valid UTF-8, and read as {document.encoding} (the closest guess) it does not "
-                    "look like English text; re-save it as UTF-8 (or pass --any-language to summarize it "
-                    "anyway)"), warnings
-        warnings.append(f"not valid UTF-8: read as {document.encoding} (a guess); check accented characters")
-    if not any_language and not reading.looks_english(text):
-        read_as = f" (read as {document.encoding}: it is not valid UTF-8)" if guessed else ""
-        return (f"'{rel}' does not look like English text{read_as}; boildown's models are English-only "
-                "(pass --any-language to summarize it anyway)"), warnings
-    return None, warnings
-
-
 def process_task(task: dict, job) -> dict:
     """Summarize one document from its bytes; never raises (errors come back as a reason)."""
     started = time.perf_counter()
@@ -811,7 +757,7 @@ def process_task(task: dict, job) -> dict:
             outcome["encoding"] = document.encoding
             read_at = time.perf_counter()
             outcome["timings"]["read_s"] = round(read_at - started, 4)
-            problem, outcome["warnings"] = _text_problem(document, rel, task["any_language"])
+            problem, outcome["warnings"] = reading.text_problem(document, f"'{rel}'", task["any_language"])
             if problem:
                 outcome["error"] = problem
                 return outcome
@@ -1271,7 +1217,7 @@ class _Run:
     def _write(self, record: dict, item: Found) -> None:
         """The summary file first (atomically), then its manifest line."""
         if record["status"] == "done":
-            _atomic_write(self.out_dir / item.summary_rel, record["summary"] + "\n")
+            write_atomic(self.out_dir / item.summary_rel, record["summary"] + "\n")
             self.manifest.append(record, supersede=self.config.force)
             self.done += 1
         else:
@@ -1285,7 +1231,7 @@ class _Run:
         """A skipped document whose summary file went missing gets it back from its record."""
         target = self.out_dir / (prior.get("summary_file") or item.summary_rel)
         if not target.exists() and prior.get("summary") is not None:
-            _atomic_write(target, prior["summary"] + "\n")
+            write_atomic(target, prior["summary"] + "\n")
 
     # ---------------------------------------------------------------- progress
 

@@ -89,7 +89,7 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
       boildown summarize minutes.txt --ratio 0.1 --candidates 5
       boildown summarize brief.md --words 250 --json --out brief.json
     """
-    from summarize import report
+    from summarize import files, report
     from summarize.pipeline import summarize as run
 
     if sum(x is not None for x in (words, ratio, sentences)) > 1:
@@ -97,7 +97,7 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
     if words is None and ratio is None and sentences is None:
         words = 150
     if out:
-        report.check_writable(out)
+        files.check_writable(out)
     say = _progress(quiet)
     document = _read_source(source, any_language)
     result = run(document, words, ratio=ratio, sentences=sentences, candidates=candidates or DEFAULT_CANDIDATES,
@@ -108,7 +108,7 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
         click.echo(report.table([c for _, c in result.candidates]), err=True)
     body = report.summary_json(result) if as_json else result.text + "\n"
     if out:
-        report.write_atomic(out, body)
+        files.write_atomic(out, body)
         if not quiet:
             click.echo(f"boildown: wrote {out} ({result.words} words)", err=True)
     else:
@@ -162,20 +162,20 @@ def models_cmd(as_json, no_load):
         raise Failure(f"{len(bad)} model(s) unavailable: {', '.join(s.key for s in bad)}; run `boildown setup`")
 
 
-def _read_source(path: str, any_language: bool):
+def _read_source(path: str, any_language: bool, say=None):
     """The source as a reading.Document ("-" reads standard input), refused when it does not
     look like English unless --any-language."""
-    from summarize.reading import looks_english, parse_text, read_document
+    from summarize.reading import parse_text, read_document, text_problem
 
     if path == "-":
         document = parse_text(click.get_text_stream("stdin").read(), source="stdin")
     else:
         document = read_document(path)
-    if not any_language and not looks_english(document.text):
-        raise Failure(
-            f"'{path}' does not look like English text; boildown's models are English-only "
-            "(pass --any-language to use it anyway)"
-        )
+    problem, warnings = text_problem(document, f"'{path}'", any_language)
+    if problem:
+        raise Failure(problem)
+    for warning in warnings:
+        (say or _progress(False))(f"warning: {path}: {warning}")
     return document
 
 

@@ -266,6 +266,37 @@ def looks_english(text: str) -> bool:
     return hits / len(tokens) >= ENGLISH_THRESHOLD
 
 
+ASCII_SHARE_MIN = 0.5
+"""A file that is not valid UTF-8 is decoded with a guessed legacy encoding; when fewer than
+half of the resulting non-space characters are ASCII the guess produced something that is not
+English (English in cp1252 or Latin-1 is about 97-100% ASCII; random bytes read as big5 or
+cp1251 score under 10%), and the record says so instead of summarizing noise."""
+
+_UTF = frozenset({"utf-8", "utf-8-sig", "utf-16", "utf-32", "ascii"})
+
+
+def text_problem(document: "Document", name: str, any_language: bool) -> tuple[str | None, list[str]]:
+    """Whether boildown's English-only models can use a document's text: (the one-line reason
+    to refuse it or None, warnings). ``name`` is how the message names the document. Text read
+    with a guessed legacy encoding gets a warning, and is refused when the guess gave mostly
+    non-ASCII text; text that does not look English is refused unless ``any_language``."""
+    text = document.text
+    warnings = []
+    guessed = document.encoding is not None and document.encoding.lower() not in _UTF
+    if guessed:
+        visible = [c for c in text[:20000] if not c.isspace()]
+        share = sum(1 for c in visible if c.isascii()) / max(1, len(visible))
+        if share < ASCII_SHARE_MIN and not any_language:
+            return (f"{name} is not valid UTF-8, and read as {document.encoding} (the closest guess) it does not "
+                    "look like English text; re-save it as UTF-8 (or pass --any-language to use it anyway)"), warnings
+        warnings.append(f"not valid UTF-8: read as {document.encoding} (a guess); check accented characters")
+    if not any_language and not looks_english(text):
+        read_as = f" (read as {document.encoding}: it is not valid UTF-8)" if guessed else ""
+        return (f"{name} does not look like English text{read_as}; boildown's models are English-only "
+                "(pass --any-language to use it anyway)"), warnings
+    return None, warnings
+
+
 _WORD_RE = re.compile(r"[^\W\d_]+(?:['\u2019][^\W\d_]+)*")
 # Function words that are frequent in English and rare as whole words in the other major
 # Latin-script languages (so "a", "i", "in", "on", "is", "as", "an", "do", "no", "so", "also",

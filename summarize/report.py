@@ -138,34 +138,3 @@ def summary_json(result) -> str:
     payload = result.to_dict()
     payload["caution"] = CAUTION
     return json.dumps(payload, indent=2, ensure_ascii=False, default=str) + "\n"
-
-
-def check_writable(path) -> None:
-    """Fail early, before any work, when an output file cannot be written."""
-    import os
-    from pathlib import Path
-
-    folder = Path(path).expanduser().resolve().parent
-    if not folder.is_dir():
-        raise ValueError(f"cannot write '{path}': the folder {folder} does not exist")
-    if not os.access(folder, os.W_OK):
-        raise ValueError(f"cannot write '{path}': the folder {folder} is not writable")
-
-
-def write_atomic(path, text: str) -> None:
-    """Write via a temporary file in the same folder, fsync, rename: never a half-written file."""
-    import os
-    import tempfile
-    from pathlib import Path
-
-    target = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", dir=str(target.parent or "."))
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, target)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise

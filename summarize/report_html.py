@@ -14,14 +14,12 @@ meaning and keeps table rows whole.
 
 from __future__ import annotations
 
-import contextlib
 import html
-import os
 import re
-import tempfile
 from pathlib import Path
 
 from scoring.base import project_version
+from summarize.files import check_writable, write_atomic
 from summarize.compare import UNSCORED, Comparison, sentence_id
 from summarize.report import CAUTION
 
@@ -145,40 +143,15 @@ def render_html(comparison: Comparison) -> str:
 
 
 def write_html(comparison: Comparison, path) -> Path:
-    """Write the page atomically: a temporary file in the same folder, then a rename, so an
-    interrupted run never leaves half a report. Returns the path written."""
-    target = Path(os.fspath(path))
-    check_target(target)
-    text = render_html(comparison)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)
-        os.replace(tmp, target)
-    except BaseException as exc:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        if isinstance(exc, OSError):
-            raise OSError(f"cannot write the report '{target}': {exc.strerror or exc}") from exc
-        raise
-    return target
+    """Write the page atomically (``files.write_atomic``), so an interrupted run never leaves
+    half a report. Returns the path written."""
+    check_target(path)
+    return write_atomic(path, render_html(comparison), what="the report")
 
 
 def check_target(path) -> None:
     """Fail early (before any scoring) when the report cannot be written where asked."""
-    target = Path(os.fspath(path))
-    folder = target.parent
-    if target.is_dir():
-        raise ValueError(f"'{target}' is a folder; give a file name for the report, e.g. '{target / 'report.html'}'")
-    if not folder.is_dir():
-        raise ValueError(f"cannot write the report '{target}': the folder '{folder}' does not exist; create it first")
-    if not os.access(folder, os.W_OK | os.X_OK):
-        raise ValueError(f"cannot write the report '{target}': the folder '{folder}' is not writable")
+    check_writable(path, what="the report")
 
 
 # --------------------------------------------------------------------------- sections
