@@ -29,7 +29,7 @@ from collections import Counter
 
 import numpy as np
 
-from summarize.segment import count_words, split_sentences
+from scoring.text import count_words, split_sentences
 
 DAMPING = 0.85  # PageRank's damping factor (Brin & Page 1998); TextRank and LexRank use it too
 LEXRANK_THRESHOLD = 0.1  # Erkan & Radev (2004) report 0.1 as the best cosine threshold

@@ -88,7 +88,7 @@ def main(argv=None) -> None:
     from rouge_score.rouge_scorer import RougeScorer
 
     from scoring.models import set_threads
-    from summarize.segment import split_sentences
+    from scoring.text import split_sentences
 
     set_threads()
     commit = _commit()  # the code measured: the checkout when the run starts

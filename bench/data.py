@@ -21,7 +21,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from bench.common import DATA
-from summarize.segment import count_words
+from scoring.text import count_words
 
 SQUALITY = DATA / "squality"
 LONGSCIVERIFY = DATA / "longdoc" / "raw_data" / "LongSciVerify"

@@ -96,7 +96,7 @@ def run_ranking(evaluator, candidates: int, limit: int | None, split: str = "dev
     from rouge_score.rouge_scorer import RougeScorer
 
     from summarize.pipeline import summarize
-    from summarize.segment import split_sentences
+    from scoring.text import split_sentences
 
     rouge = RougeScorer(["rouge2"], use_stemmer=True)
     stories = data.squality(split)[:limit]
@@ -136,7 +136,7 @@ def ranking_context(block: dict) -> dict:
       three, over the same candidates (how far one reference's ranking is from the rest)."""
     from rouge_score.rouge_scorer import RougeScorer
 
-    from summarize.segment import split_sentences
+    from scoring.text import split_sentences
 
     def mean_tau(pairs):
         taus = [t for t in (kendall(a, b) for a, b in pairs) if t == t]

@@ -76,7 +76,7 @@ def concept_score(source: str, text: str) -> float:
     """Weight of the source's concepts (bigrams in 2+ of its sentences, weighted by how many;
     Gillick & Favre 2009) that ``text`` contains."""
     from summarize.extract import bigrams
-    from summarize.segment import split_sentences
+    from scoring.text import split_sentences
 
     key = hash(source)
     if key not in _CONCEPTS:
@@ -87,7 +87,7 @@ def concept_score(source: str, text: str) -> float:
 
 
 def words_per_sentence(text: str) -> float:
-    from summarize.segment import count_words, split_sentences
+    from scoring.text import count_words, split_sentences
 
     return count_words(text) / max(1, len(split_sentences(text)))
 

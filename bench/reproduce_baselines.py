@@ -27,7 +27,7 @@ from importlib.metadata import PackageNotFoundError, version  # noqa: E402
 from bench import data  # noqa: E402
 from bench.baselines import BASELINES, oracle  # noqa: E402
 from bench.common import save  # noqa: E402
-from summarize.segment import count_words, split_sentences  # noqa: E402
+from scoring.text import count_words, split_sentences  # noqa: E402
 
 ROUGE_TYPES = ("rouge1", "rouge2", "rougeLsum")
 SYSTEMS = ("lead", "textrank", "lexrank", "oracle")

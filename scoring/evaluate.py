@@ -56,7 +56,7 @@ class Evaluator:
         progress: Callable[[str], None] | None = None,
     ) -> list[Candidate]:
         """Score (name, text) pairs against the source; return them ranked."""
-        from summarize.segment import count_words
+        from scoring.text import count_words
 
         if not source or not source.strip():
             raise ValueError("the source is empty: there is nothing to summarise or cover")

@@ -199,7 +199,7 @@ class FluencyScorer:
         return self.score_many([summary], source=source)[0]
 
     def score_many(self, summaries: list[str], *, source: str | None = None) -> list[FluencyScore]:
-        from summarize.segment import split_sentences
+        from scoring.text import split_sentences
 
         ref = self.reference_log_pp(source)
         split = [split_sentences(s) if s and s.strip() else [] for s in summaries]
@@ -220,7 +220,7 @@ class FluencyScorer:
             return REFERENCE_LOG_PP
         key = str(hash(source))
         if key not in self._references:
-            from summarize.segment import split_sentences
+            from scoring.text import split_sentences
 
             sentences = [s for s in split_sentences(source) if len(s.split()) >= 4] or split_sentences(source)
             n = self.config.reference_sentences

@@ -175,7 +175,7 @@ class RougeScorer:
         """The text as ROUGE-Lsum reads it: one sentence per line."""
         if self.config.split == "lines":
             return text
-        from summarize.segment import split_sentences
+        from scoring.text import split_sentences
 
         return "\n".join(split_sentences(text))
 
@@ -319,7 +319,7 @@ def _bert_scorer(config: BertScoreConfig):
 
 
 def _idf_sentences(refs: tuple[str, ...]) -> list[str]:
-    from summarize.segment import split_sentences
+    from scoring.text import split_sentences
 
     sentences = [s for ref in refs for s in split_sentences(ref)]
     if len(sentences) < 2:

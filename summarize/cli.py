@@ -233,7 +233,7 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
     from scoring.evaluate import EvalConfig, Evaluator, default_evaluator
     from summarize import report
     from summarize.reading import read_candidates, read_document
-    from summarize.segment import count_words
+    from scoring.text import count_words
 
     if as_json and as_csv:
         raise click.UsageError("choose one of --json and --csv")
@@ -317,7 +317,7 @@ def compare_cmd(source, candidates, references, words, html_path, as_json, summa
     provenance = None
     if summaries:
         from summarize.pipeline import summarize as run
-        from summarize.segment import split_sentences
+        from scoring.text import split_sentences
 
         own = run(document, words or 150, candidates=max(summaries, 1), progress=say)
         provenance = {}

@@ -23,7 +23,8 @@ from scoring.base import Signature
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
 from summarize import align as aligning
 from summarize.reading import Document, parse_text
-from summarize.segment import Sentence, count_words, segment, split_sentences
+from scoring.text import count_words, split_sentences
+from summarize.segment import Sentence, segment
 
 STATES = ("recovered", "known", "missed")
 UNSCORED = "unscored"  # a key word with no scored blank (past the blank limit, or at offset 0)

@@ -1,27 +1,14 @@
-"""Sentences, and the one word-counting rule used everywhere.
+"""Sentences of a document, each with its place: block, section and offset.
 
-Word counting: a word is a maximal run of non-whitespace characters, exactly what `wc -w`
-counts (and Python's ``str.split()``). Budgets, reports, tests and benchmarks all use
-``count_words``; a printed summary of N words here is N words to `wc -w`.
-
-Sentence splitting uses syntok's rule-based segmenter (no data download), which keeps
-abbreviations such as "Dr.", "e.g." and "No. 3" inside their sentences.
+The sentence split and the word count themselves are ``scoring.text``'s (one rule for the
+scorers and the summarizer); this module applies them to a reading.Document.
 """
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 
-
-def count_words(text: str) -> int:
-    """Whitespace-separated tokens: the same number `wc -w` prints."""
-    return len(text.split())
-
-
-def first_words(text: str, n: int) -> str:
-    """The first n words of a text, whitespace normalised."""
-    return " ".join(text.split()[:n])
+from scoring.text import count_words, split_offsets
 
 
 @dataclass(frozen=True)
@@ -39,60 +26,6 @@ class Sentence:
         return count_words(self.text)
 
 
-_SPACE = re.compile(r"\s+")
-
-
-def split_sentences(text: str) -> list[str]:
-    """Split running text into sentences with syntok; whitespace inside each is normalised."""
-    return [s for s, _ in _split_with_offsets(text)]
-
-
-# A "sentence" longer than this is split again at terminal punctuation followed by space, even
-# before a lower-case word: syntok (rightly) never splits there, but lower-cased or tokenised
-# text ("... countries ( 1).vitamin d is ...") otherwise comes back as one huge sentence.
-LONG_SENTENCE = 80
-_RESPLIT = re.compile(r"(?<=[.!?])\s+(?=[a-z(\[])|(?<=\S[.!?])(?=[a-z][a-z])")
-
-
-def _split_with_offsets(text: str) -> list[tuple[str, int]]:
-    out = []
-    for sentence, start in _syntok_offsets(text):
-        if len(sentence.split()) <= LONG_SENTENCE:
-            out.append((sentence, start))
-            continue
-        raw = text[start:]
-        cursor = 0
-        pieces = []
-        for m in _RESPLIT.finditer(sentence):
-            pieces.append(sentence[cursor : m.start()].strip())
-            cursor = m.end()
-        pieces.append(sentence[cursor:].strip())
-        offset = start
-        for piece in pieces:
-            if piece:
-                found = raw.find(piece.split()[0])
-                out.append((piece, start + found if found >= 0 else offset))
-                offset = out[-1][1]
-    return out
-
-
-def _syntok_offsets(text: str) -> list[tuple[str, int]]:
-    from syntok import segmenter
-
-    out = []
-    for paragraph in segmenter.analyze(text):
-        for sentence in paragraph:
-            if not sentence:
-                continue
-            start = sentence[0].offset
-            end = sentence[-1].offset + len(sentence[-1].value)
-            raw = text[start:end]
-            clean = _SPACE.sub(" ", raw).strip()
-            if clean:
-                out.append((clean, start))
-    return out
-
-
 def segment(document) -> list[Sentence]:
     """Sentences of a reading.Document, each tagged with its block and section.
 
@@ -104,6 +37,6 @@ def segment(document) -> list[Sentence]:
         if block.kind == "heading":
             section += 1
             continue
-        for text, start in _split_with_offsets(block.text):
+        for text, start in split_offsets(block.text):
             sentences.append(Sentence(text, len(sentences), b, section, start))
     return sentences

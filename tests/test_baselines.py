@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 
 from bench import data
 from bench.baselines import BASELINES, lead, lexrank, oracle, pagerank, textrank, textrank_scores
-from summarize.segment import count_words, split_sentences
+from scoring.text import count_words, split_sentences
 
 TOL = 1e-9  # power iteration runs to an L1 change below 1e-10
 

@@ -29,7 +29,7 @@ from summarize import compare as comparing
 from summarize import report_html
 from summarize.cli import main
 from summarize.reading import parse_text, read_document
-from summarize.segment import count_words, split_sentences
+from scoring.text import count_words, split_sentences
 
 DATA = Path(__file__).resolve().parent / "data" / "compare"
 SOURCE = DATA / "source.md"  # invented (Harrowmere Valley Water Board scenario); 175 words once parsed

@@ -29,7 +29,7 @@ from scoring.reference import (
     RougeScore,
     RougeScorer,
 )
-from summarize.segment import split_sentences
+from scoring.text import split_sentences
 
 TEST_DATA = Path(__file__).resolve().parent / "data"
 

@@ -19,7 +19,7 @@ from summarize.extract import clusters, concepts, pagerank, select
 from summarize.pipeline import budget_for
 from summarize.recipes import ExtractConfig, RECIPES
 from summarize.search import FILL_TARGET, _complete, _cut, analyse, build
-from summarize.segment import count_words
+from scoring.text import count_words
 
 BUDGETS = (50, 100, 150, 250, 400)
 DEMO_DOCS = sorted(p for p in DEMO.glob("*") if p.suffix in (".txt", ".md", ".html") and "abstract" not in p.name
