@@ -162,8 +162,35 @@ class Document:
 # --------------------------------------------------------------------------------------------
 
 
-def read_document(path) -> Document:
-    """Read a file into a ``Document``, choosing the parser by the file's extension.
+def read(source, format: str | None = None, *, name: str | None = None) -> Document:
+    """Read a document from a path or from bytes already in memory.
+
+    ``format`` ("txt", "md", "html", "pdf", "docx") chooses the parser; without it the
+    extension of the path, or of ``name`` for bytes, decides (no extension = plain text).
+    ``name`` is what messages and ``Document.source`` call the bytes (e.g. a path relative to
+    a batch folder). Raises ``ReadError`` as ``read_document`` does.
+    """
+    if not isinstance(source, (bytes, bytearray, memoryview)):
+        return read_document(source, format=format)
+    label = name if name is not None else "the data"
+    fmt = format or _format_of(Path(label).suffix.lower() if name is not None else "", f"'{label}'")
+    data = bytes(source)
+    if len(data) > MAX_BYTES:
+        raise ReadError(f"'{label}' is too large ({_fmt_size(len(data))}, limit {_fmt_size(MAX_BYTES)}); "
+                        "split it or trim it first")
+    return _from_bytes(data, fmt, name, f"'{label}'")
+
+
+def _format_of(suffix: str, name: str) -> str:
+    fmt = _EXTENSIONS.get(suffix)
+    if fmt is None:
+        hint = _CONVERT_HINTS.get(suffix, "convert it to one of those")
+        raise ReadError(f"{name} has an unsupported file type '{suffix}'; supported: {_SUPPORTED}; {hint}")
+    return fmt
+
+
+def read_document(path, format: str | None = None) -> Document:
+    """Read a file into a ``Document``, choosing the parser by ``format`` or else the file's extension.
 
     Raises ``ReadError`` (one line, naming the file, the problem and the fix) for a missing
     file, a directory, a permission problem, an empty, binary, oversized or undecodable file,
@@ -181,11 +208,7 @@ def read_document(path) -> Document:
             raise ReadError(f"{name} is a directory, not a file; give the path of one document ({_SUPPORTED})")
         if not p.is_file():
             raise ReadError(f"{name} is not a regular file; give the path of a saved document")
-        suffix = p.suffix.lower()
-        fmt = _EXTENSIONS.get(suffix)
-        if fmt is None:
-            hint = _CONVERT_HINTS.get(suffix, "convert it to one of those")
-            raise ReadError(f"{name} has an unsupported file type '{suffix}'; supported: {_SUPPORTED}; {hint}")
+        fmt = format or _format_of(p.suffix.lower(), name)
         limit = MAX_BYTES
         size = p.stat().st_size
         if size > limit:
@@ -202,9 +225,15 @@ def read_document(path) -> Document:
         raise ReadError(f"{name} cannot be read ({_reason(exc)}); check the path and the disk") from None
     if len(data) > limit:
         raise ReadError(f"{name} is too large (over {_fmt_size(limit)}); split it or trim it first")
+    return _from_bytes(data, fmt, source, name)
+
+
+def _from_bytes(data: bytes, fmt: str, source: str | None, name: str) -> Document:
+    """Parse a document's bytes in a known format; ``name`` is how messages name it."""
+    if fmt not in FORMATS:
+        raise ReadError(f"{name}: unknown format {fmt!r}; choose one of {', '.join(FORMATS)}")
     if not data.strip():
         raise ReadError(f"{name} is empty; give a file that contains text")
-
     if fmt == "pdf":
         return Document(_read_pdf(data, name), source=source, format="pdf")
     if fmt == "docx":
