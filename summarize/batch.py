@@ -67,7 +67,7 @@ MAX_DEFAULT_WORKERS = 4
 """Each worker holds its own copy of the models (about 1 GB of memory), so the default number
 of workers is the number of cores, at most this many."""
 DASK_INSTALL = 'pip install "dask[distributed]==2026.8.0" "distributed==2026.8.0"'
-DEFAULT_INCLUDE = tuple(f"*{suffix}" for suffix in reading._EXTENSIONS if suffix)
+DEFAULT_INCLUDE = tuple(f"*{suffix}" for suffix in reading.EXTENSIONS if suffix)
 """The file types ``read_document`` reads (files without an extension are left out here, so
 a folder's README or LICENSE is not summarized; add ``--include`` patterns to take them)."""
 
@@ -623,8 +623,8 @@ def read_bytes(path: Path, rel: str) -> bytes:
                                 "are read")
     limit = reading.MAX_BYTES
     if st.st_size > limit:
-        raise reading.ReadError(f"{name} is too large ({reading._fmt_size(st.st_size)}, limit "
-                                f"{reading._fmt_size(limit)}); split it or trim it first")
+        raise reading.ReadError(f"{name} is too large ({reading.format_size(st.st_size)}, limit "
+                                f"{reading.format_size(limit)}); split it or trim it first")
     try:
         with _open_bytes(path) as fh:
             data = fh.read(limit + 1)
@@ -633,7 +633,7 @@ def read_bytes(path: Path, rel: str) -> bytes:
     except OSError as exc:
         raise reading.ReadError(f"{name} cannot be read ({exc.strerror or exc}); check the path and the disk") from None
     if len(data) > limit:
-        raise reading.ReadError(f"{name} is too large (over {reading._fmt_size(limit)}); split it or trim it first")
+        raise reading.ReadError(f"{name} is too large (over {reading.format_size(limit)}); split it or trim it first")
     return data
 
 

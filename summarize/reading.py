@@ -34,7 +34,7 @@ MAX_BYTES = 50 * 1024 * 1024
 BLOCK_KINDS = ("heading", "paragraph", "item")
 FORMATS = ("txt", "md", "html", "pdf", "docx")
 
-_EXTENSIONS = {
+EXTENSIONS = {
     "": "txt",
     ".txt": "txt",
     ".text": "txt",
@@ -176,13 +176,13 @@ def read(source, format: str | None = None, *, name: str | None = None) -> Docum
     fmt = format or _format_of(Path(label).suffix.lower() if name is not None else "", f"'{label}'")
     data = bytes(source)
     if len(data) > MAX_BYTES:
-        raise ReadError(f"'{label}' is too large ({_fmt_size(len(data))}, limit {_fmt_size(MAX_BYTES)}); "
+        raise ReadError(f"'{label}' is too large ({format_size(len(data))}, limit {format_size(MAX_BYTES)}); "
                         "split it or trim it first")
     return _from_bytes(data, fmt, name, f"'{label}'")
 
 
 def _format_of(suffix: str, name: str) -> str:
-    fmt = _EXTENSIONS.get(suffix)
+    fmt = EXTENSIONS.get(suffix)
     if fmt is None:
         hint = _CONVERT_HINTS.get(suffix, "convert it to one of those")
         raise ReadError(f"{name} has an unsupported file type '{suffix}'; supported: {_SUPPORTED}; {hint}")
@@ -212,7 +212,7 @@ def read_document(path, format: str | None = None) -> Document:
         limit = MAX_BYTES
         size = p.stat().st_size
         if size > limit:
-            raise ReadError(f"{name} is too large ({_fmt_size(size)}, limit {_fmt_size(limit)}); split it or trim it first")
+            raise ReadError(f"{name} is too large ({format_size(size)}, limit {format_size(limit)}); split it or trim it first")
         with open(p, "rb") as fh:
             data = fh.read(limit + 1)
     except ReadError:
@@ -224,7 +224,7 @@ def read_document(path, format: str | None = None) -> Document:
     except OSError as exc:
         raise ReadError(f"{name} cannot be read ({_reason(exc)}); check the path and the disk") from None
     if len(data) > limit:
-        raise ReadError(f"{name} is too large (over {_fmt_size(limit)}); split it or trim it first")
+        raise ReadError(f"{name} is too large (over {format_size(limit)}); split it or trim it first")
     return _from_bytes(data, fmt, source, name)
 
 
@@ -528,7 +528,7 @@ def _reason(exc: BaseException) -> str:
     return text if len(text) <= 120 else text[:117] + "..."
 
 
-def _fmt_size(n: int) -> str:
+def format_size(n: int) -> str:
     if n >= 1024 * 1024:
         return f"{n / (1024 * 1024):.1f} MB"
     if n >= 1024:
