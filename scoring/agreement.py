@@ -68,7 +68,7 @@ class AgreementScorer:
         return RougeScorer(RougeConfig(types=(self.config.measure,)))
 
     def signature(self) -> Signature:
-        return Signature.build("agreement", {"measure": self.config.measure, "stem": True, "gain": "mean-f1"},
+        return Signature.build("agreement", {"measure": self.config.measure, "stemmed": True, "gain": "mean-f1"},
                                ("rouge-score", "nltk"))
 
     def score(self, summary: str, *, source=None, reference=None) -> AgreementScore:

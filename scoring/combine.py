@@ -38,8 +38,8 @@ class CombineConfig:
             raise ValueError("weights must be non-negative, and coverage and fluency not both zero")
 
     def signature(self) -> Signature:
-        return Signature.build("combined", {"agr": self.w_agreement, "cov": self.w_coverage, "flu": self.w_fluency,
-                                            "over": "last"})
+        return Signature.build("combined", {"agreement": self.w_agreement, "coverage": self.w_coverage,
+                                            "fluency": self.w_fluency, "over_budget": "ranked-last"})
 
     def describe(self, agreement: bool = True) -> str:
         """The formula in words, with the weights normalised as they are applied."""

@@ -233,13 +233,13 @@ class CoverageScorer:
             {
                 "model": f"smollm2-135m@{short_checksum('causal')}",
                 "dtype": resolve_dtype(c.dtype),  # the dtype the model runs in, "auto" resolved
-                "keys": c.keywords,
-                "mode": c.mode,
+                "keywords": c.keywords,
+                "occurrence": c.mode,
                 "window": c.window,
                 "blanks": c.max_blanks,
-                "perkey": c.per_keyword,
-                "head": c.headline,
-                "lower": c.lowercase,
+                "per_keyword": c.per_keyword,
+                "headline": c.headline,
+                "lowercase": c.lowercase,
             },
             ("torch", "transformers", "spacy"),
         )

@@ -191,7 +191,8 @@ class FluencyScorer:
         name = "smollm2-135m@" + short_checksum("causal") if real else type(self.model).__name__
         return Signature.build(
             "fluency",
-            {"model": name, "dtype": resolve_dtype(self.model.dtype) if real else c.dtype, "scale": c.scale, "flag": c.flag_gap, "ref": f"source:{c.reference_sentences}"},
+            {"model": name, "dtype": resolve_dtype(self.model.dtype) if real else c.dtype, "scale": c.scale,
+             "flag_gap": c.flag_gap, "reference": f"source-sample-{c.reference_sentences}"},
             ("torch", "transformers", "spacy"),
         )
 

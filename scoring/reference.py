@@ -165,7 +165,7 @@ class RougeScorer:
         c = self.config
         return Signature.build(
             "rouge",
-            {"types": "+".join(c.types), "stem": c.stemmer, "split": c.split},
+            {"types": "+".join(c.types), "stemmed": c.stemmer, "sentences": c.split},
             ("rouge-score", "nltk"),
         )
 
@@ -290,7 +290,7 @@ class BertScoreScorer:
                 "model": f"minilm-l6@{models.short_checksum('encoder')}",
                 "layers": c.num_layers,
                 "idf": c.idf,
-                "rescale": False,
+                "rescaled": False,
             },
             ("bert-score", "torch", "transformers"),
         )

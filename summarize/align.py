@@ -93,5 +93,5 @@ def align(summary_sentences: Sequence[str], source_sentences: Sequence[str]) -> 
 
 def signature() -> Signature:
     """The alignment rule, for the comparison report's settings."""
-    settings = {"sim": "tfidf-cos", "ngrams": "1-2", "second": SECOND_SHARE, "floor": SECOND_FLOOR}
+    settings = {"similarity": "tfidf-cosine", "ngrams": "1-2", "second": SECOND_SHARE, "floor": SECOND_FLOOR}
     return Signature.build("align", settings)

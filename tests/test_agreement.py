@@ -73,8 +73,8 @@ def test_describe_and_signature():
     from scoring.base import package_version, project_version
 
     assert str(AgreementScorer().signature()) == (
-        f"agreement|measure:rouge2|stem:yes|gain:mean-f1|rouge:{package_version('rouge-score')}"
-        f"|nltk:{package_version('nltk')}|v:{project_version()}")
+        f"agreement(measure=rouge2, stemmed=yes, gain=mean-f1) on boildown {project_version()}, "
+        f"rouge-score {package_version('rouge-score')}, nltk {package_version('nltk')}")
 
 
 @pytest.mark.parametrize("bad", [{"measure": "rougeL"}, {"measure": "bleu"}, {"min_candidates": 2}])

@@ -58,7 +58,7 @@ FAKE_WORDS = ("greyling", "cofferdam", "crack", "thornmoor", "286,000", "resin",
 
 
 def fake_signature(name: str, **fields) -> Signature:
-    return Signature(name, tuple((k, str(v)) for k, v in fields.items()) + (("v", "test"),))
+    return Signature(name, tuple((k, str(v)) for k, v in fields.items()), (("boildown", "test"),))
 
 
 def fake_keyword_set(text: str, words=FAKE_WORDS) -> KeywordSet:
@@ -214,7 +214,7 @@ def test_align_degenerate_inputs():
 
 
 def test_align_signature_names_the_rule():
-    assert str(aligning.signature()).startswith("align|sim:tfidf-cos|ngrams:1-2|second:0.6|floor:0.2|v:")
+    assert str(aligning.signature()).startswith("align(similarity=tfidf-cosine, ngrams=1-2, second=0.6, floor=0.2) on boildown ")
 
 
 # --------------------------------------------------------------------------- the Comparison
@@ -325,7 +325,7 @@ def test_table_has_every_part():
     text = comparing.table(fake_comparison(references=True))
     assert text.startswith("source: source.md (175 words), budget 60 words")
     for part in ("candidate", "R-Lsum", "good.txt", "greyling", "missed by every candidate (1): resin",
-                 "flagged sentence (reads poorly)", "coverage|model:fake", "align|sim:tfidf-cos", "qualified person"):
+                 "flagged sentence (reads poorly)", "coverage(model=fake", "align(similarity=tfidf-cosine", "qualified person"):
         assert part in text
 
 

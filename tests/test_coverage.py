@@ -82,9 +82,10 @@ def test_signature_text():
 
     sig = str(CoverageScorer().signature())
     assert sig == (
-        f"coverage|model:smollm2-135m@{short_checksum('causal')}|dtype:{fast_dtype()}|keys:40|mode:middle|window:32|"
-        f"blanks:240|perkey:6|head:logprob|lower:yes|torch:{package_version('torch')}|"
-        f"hf:{package_version('transformers')}|spacy:{package_version('spacy')}|v:{package_version('boildown')}"
+        f"coverage(model=smollm2-135m@{short_checksum('causal')}, dtype={fast_dtype()}, keywords=40, "
+        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, lowercase=yes) "
+        f"on boildown {package_version('boildown')}, torch {package_version('torch')}, "
+        f"transformers {package_version('transformers')}, spacy {package_version('spacy')}"
     )
 
 

@@ -248,12 +248,13 @@ def test_rouge_signature_and_json():
     score = RougeScorer().score("police kill the gunman", reference=REF)
     rouge_v, nltk_v, v = package_version("rouge-score"), package_version("nltk"), package_version("boildown")
     assert str(score.signature) == (
-        f"rouge|types:rouge1+rouge2+rougeL+rougeLsum|stem:yes|split:syntok|rouge:{rouge_v}|nltk:{nltk_v}|v:{v}"
+        f"rouge(types=rouge1+rouge2+rougeL+rougeLsum, stemmed=yes, sentences=syntok) "
+        f"on boildown {v}, rouge-score {rouge_v}, nltk {nltk_v}"
     )
     data = json.loads(json.dumps(score.to_dict()))
     assert data["scores"]["rouge1"] == {"precision": 1.0, "recall": 1.0, "f1": 1.0}
     assert data["references"] == 1 and data["best_reference"]["rougeL"] == 0
-    assert data["signature"]["stem"] == "yes" and data["signature"]["text"] == str(score.signature)
+    assert data["signature"]["settings"]["stemmed"] == "yes" and data["signature"]["text"] == str(score.signature)
     assert isinstance(score, RougeScore) and RougeScorer.name == "rouge" and BertScoreScorer.name == "bertscore"
 
 
@@ -512,16 +513,13 @@ def test_bertscore_signature_and_json():
     from scoring.models import short_checksum
 
     score = BertScoreScorer().score("The ban was lifted.", reference="The hosepipe ban ended.")
-    versions = "|".join(
-        f"{key}:{package_version(lib)}" for key, lib in (("bertscore", "bert-score"), ("torch", "torch"), ("hf", "transformers"))
-    )
+    versions = ", ".join(f"{lib} {package_version(lib)}" for lib in ("boildown", "bert-score", "torch", "transformers"))
     assert str(score.signature) == (
-        f"bertscore|model:minilm-l6@{short_checksum('encoder')}|layers:6|idf:no|rescale:no|{versions}"
-        f"|v:{package_version('boildown')}"
+        f"bertscore(model=minilm-l6@{short_checksum('encoder')}, layers=6, idf=no, rescaled=no) on {versions}"
     )
     data = json.loads(json.dumps(score.to_dict()))
     assert set(data) == {"precision", "recall", "f1", "references", "truncated", "signature"}
-    assert data["signature"]["layers"] == "6"
+    assert data["signature"]["settings"]["layers"] == "6"
 
 
 QUIET_AND_OFFLINE = textwrap.dedent(
