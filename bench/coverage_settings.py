@@ -98,10 +98,13 @@ def main(argv=None) -> None:
     for setting, int8 in runs:
         scorer = CoverageScorer(CoverageConfig(**setting))
         if int8:
-            from scoring.models import causal_in_dtype, load_causal
+            from scoring.lm import CausalLM
+            from scoring.models import causal_in_dtype
 
-            # the scorer's model, replaced before its first use (a cached property)
-            scorer.__dict__["_lm"] = (int8_copy(causal_in_dtype("float32")), load_causal().tokenizer)
+            # the scorer's model wrapper, replaced before its first use (cached properties)
+            lm = CausalLM("float32", scorer.config.batch_tokens)
+            lm.__dict__["model"] = int8_copy(causal_in_dtype("float32"))
+            scorer.__dict__["lm"] = lm
         taus, start = [], time.perf_counter()
         for story in stories:
             texts = [c["text"] for c in story["candidates"]]

@@ -34,7 +34,6 @@ import math
 from dataclasses import dataclass, field
 
 from scoring.base import Signature
-from scoring.batching import length_batches
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
 
 HEADLINES = ("logprob", "accuracy", "prob")
@@ -225,14 +224,11 @@ class CoverageScorer:
         return results
 
     def signature(self) -> Signature:
-        from scoring.models import resolve_dtype, short_checksum
-
         c = self.config
         return Signature.build(
             "coverage",
             {
-                "model": f"smollm2-135m@{short_checksum('causal')}",
-                "dtype": resolve_dtype(c.dtype),  # the dtype the model runs in, "auto" resolved
+                **self.lm.describe(),  # the model, and the dtype it runs in ("auto" resolved)
                 "keywords": c.keywords,
                 "occurrence": c.mode,
                 "window": c.window,
@@ -247,13 +243,13 @@ class CoverageScorer:
     # ------------------------------------------------------------------ internals
 
     @functools.cached_property
-    def _lm(self):
-        from scoring.models import causal_in_dtype, load_causal
+    def lm(self):
+        from scoring.lm import causal_lm
 
-        return causal_in_dtype(self.config.dtype), load_causal().tokenizer
+        return causal_lm(self.config.dtype, self.config.batch_tokens)
 
     def _tokens(self, text: str) -> list[int]:
-        return self._lm[1](text, add_special_tokens=False).input_ids
+        return list(self.lm.tokens(text))
 
     @functools.lru_cache(maxsize=16)
     def _plan(self, source: str) -> _Plan:
@@ -280,7 +276,7 @@ class CoverageScorer:
             ids.extend(self._tokens(segment))
             target = self._tokens(lead + lower(source[start:end]))
             k = 0
-            while k < len(target) - 1 and not self._lm[1].decode([target[k]]).strip():
+            while k < len(target) - 1 and self.lm.is_space(target[k]):
                 k += 1
             ids.extend(target[:k])
             seen[owner] = seen.get(owner, 0) + 1
@@ -319,72 +315,23 @@ class CoverageScorer:
         return head + pad + body[-size:] + self._tokens(after), size
 
     def _runs(self, prefixes: list[list[int]], plan: _Plan) -> list[_Pass]:
-        """One pass per prefix: the prefixes' key/value caches (prefixes of one length in one
-        batch), then every packed row of windows after each."""
-        import torch
-
-        model, _ = self._lm
-        out: list[_Pass | None] = [None] * len(prefixes)
-        by_length: dict[int, list[int]] = {}
-        for i, ids in enumerate(prefixes):
-            by_length.setdefault(len(ids), []).append(i)
-        for length, members in by_length.items():
-            step = max(1, self.config.batch_tokens // max(1, length))
-            for k in range(0, len(members), step):
-                chunk = members[k : k + step]
-                with torch.inference_mode():
-                    head = model.model(input_ids=torch.tensor([prefixes[i] for i in chunk]), use_cache=True).past_key_values
-                layers = [(layer.keys, layer.values) for layer in head.layers]
-                for row, i in enumerate(chunk):
-                    out[i] = self._rows([(key[row : row + 1], value[row : row + 1]) for key, value in layers], length, plan)
-        return out  # type: ignore[return-value]
-
-    def _rows(self, head: list, start_pos: int, plan: _Plan) -> _Pass:
-        """Every packed row of windows read after one prefix's key/value cache ``head``."""
-        import torch
-        from transformers import DynamicCache
-
-        model, _ = self._lm
-        logprobs = [0.0] * len(plan.positions)
-        hits = [False] * len(plan.positions)
-        lengths = [len(r[0]) for r in plan.rows]
-        with torch.inference_mode():
-            # rows of like length share a batch, so little of a batch is padding
-            for batch in length_batches(lengths, self.config.batch_tokens):
-                width = max(lengths[j] for j in batch)
-                ids = torch.zeros((len(batch), width), dtype=torch.long)
-                for row, j in enumerate(batch):
-                    ids[row, : lengths[j]] = torch.tensor(plan.rows[j][0])
-                # a fresh cache object per batch (the model appends to the one it is given)
-                cache = DynamicCache(
-                    ddp_cache_data=[
-                        (key.expand(len(batch), -1, -1, -1), value.expand(len(batch), -1, -1, -1)) for key, value in head
-                    ]
-                )
-                positions = (start_pos + torch.arange(width)).unsqueeze(0).expand(len(batch), -1)
-                hidden = model.model(input_ids=ids, cache=cache, position_ids=positions).last_hidden_state
-                rows, cols, wanted = [], [], []
-                for row, j in enumerate(batch):
-                    for col, i in plan.rows[j][1]:
-                        rows.append(row)
-                        cols.append(col)
-                        wanted.append(i)
-                if not wanted:
-                    continue
-                logits = model.lm_head(hidden[rows, cols]).float()
-                logp = torch.log_softmax(logits, dim=-1)
-                tgt = torch.tensor([plan.targets[i] for i in wanted])
-                lp = logp.gather(1, tgt[:, None])[:, 0]
-                best = logp.argmax(dim=-1)
-                for n, i in enumerate(wanted):
-                    logprobs[i] = float(lp[n])
-                    hits[i] = bool(best[n] == tgt[n])
-        blank_lp = [0.0] * len(plan.owners)
-        blank_hit = [True] * len(plan.owners)
-        for i, blank in enumerate(plan.blank_of):
-            blank_lp[blank] += logprobs[i]
-            blank_hit[blank] = blank_hit[blank] and hits[i]
-        return _Pass(tuple(blank_lp), tuple(blank_hit))
+        """One pass per prefix: the prefixes' key/value caches, then every packed row of windows
+        read after each."""
+        asks = [(ids, [(col, plan.targets[i]) for col, i in scored]) for ids, scored in plan.rows]
+        out = []
+        for ids, head in zip(prefixes, self.lm.prefix_states(prefixes)):
+            logprobs = [0.0] * len(plan.positions)
+            hits = [False] * len(plan.positions)
+            for (_, scored), answers in zip(plan.rows, self.lm.read_after(head, len(ids), asks)):
+                for (_, i), (logprob, hit) in zip(scored, answers):
+                    logprobs[i], hits[i] = logprob, hit
+            blank_lp = [0.0] * len(plan.owners)
+            blank_hit = [True] * len(plan.owners)
+            for i, blank in enumerate(plan.blank_of):
+                blank_lp[blank] += logprobs[i]
+                blank_hit[blank] = blank_hit[blank] and hits[i]
+            out.append(_Pass(tuple(blank_lp), tuple(blank_hit)))
+        return out
 
 
 def _dense_choice(starts: list[list[int]], width: int, sweeps: int = 3) -> dict[int, int]:

@@ -25,7 +25,6 @@ from dataclasses import dataclass, field
 from typing import Protocol
 
 from scoring.base import Signature
-from scoring.batching import length_batches
 
 # log PP of edited English prose under SmolLM2-135M (Q4_1 dequantised, bfloat16), each sentence
 # read on its own: median 4.65 over 1,253 sentences of the demo documents and 5.23 over 199
@@ -98,62 +97,6 @@ def perplexity(logprobs: list[float]) -> float:
     return math.exp(-sum(logprobs) / len(logprobs))
 
 
-class CausalTokenModel:
-    """The packaged causal model behind the TokenModel protocol (batched, one pass per text)."""
-
-    def __init__(self, dtype: str = "auto", batch_tokens: int = 4096):
-        self.dtype = dtype
-        self.batch_tokens = batch_tokens
-
-    @functools.cached_property
-    def _parts(self):
-        from scoring.models import causal_in_dtype, load_causal
-
-        return causal_in_dtype(self.dtype), load_causal().tokenizer
-
-    def logprobs(self, pieces: list[list[str]]) -> list[list[list[float]]]:
-        import torch
-
-        model, tok = self._parts
-        bos = tok.convert_tokens_to_ids("<|endoftext|>")
-        encoded = []
-        for text in pieces:
-            ids, bounds = [bos], []
-            for n, piece in enumerate(text):
-                part = tok((" " if n else "") + piece, add_special_tokens=False).input_ids
-                bounds.append((len(ids), len(ids) + len(part)))
-                ids.extend(part)
-            encoded.append((ids, bounds))
-        out: list[list[list[float]] | None] = [None] * len(encoded)
-        lengths = [len(ids) for ids, _ in encoded]
-        for batch in length_batches(lengths, self.batch_tokens):
-            width = max(lengths[i] for i in batch)
-            ids = torch.zeros((len(batch), width), dtype=torch.long)
-            for row, i in enumerate(batch):
-                ids[row, : lengths[i]] = torch.tensor(encoded[i][0])
-            # the positions that predict a real token (the padding on the right is never read:
-            # the model is causal); the vocabulary layer runs on those alone, in slices
-            rows = torch.cat([torch.full((lengths[i] - 1,), row) for row, i in enumerate(batch)])
-            cols = torch.cat([torch.arange(lengths[i] - 1) for i in batch])
-            targets = ids[rows, cols + 1]
-            lp = torch.empty(len(rows))
-            with torch.inference_mode():
-                hidden = model.model(input_ids=ids).last_hidden_state[rows, cols]
-                for k in range(0, len(rows), VOCAB_SLICE):
-                    logits = model.lm_head(hidden[k : k + VOCAB_SLICE]).float()
-                    picked = logits.gather(1, targets[k : k + VOCAB_SLICE, None])[:, 0]
-                    lp[k : k + VOCAB_SLICE] = picked - torch.logsumexp(logits, dim=-1)
-            values = lp.tolist()
-            at = 0
-            for i in batch:
-                mine = values[at : at + lengths[i] - 1]
-                at += lengths[i] - 1
-                out[i] = [mine[a - 1 : b - 1] for a, b in encoded[i][1]]
-        return out  # type: ignore[return-value]
-
-
-# rows of the vocabulary layer computed at once (49,152 log-probabilities each)
-VOCAB_SLICE = 512
 _FINITE = {"VBD", "VBP", "VBZ", "MD"}
 _WORD = re.compile(r"[a-z0-9']+")
 
@@ -180,18 +123,20 @@ class FluencyScorer:
 
     def __init__(self, config: FluencyConfig = FluencyConfig(), model: TokenModel | None = None):
         self.config = config
-        self.model = model or CausalTokenModel(config.dtype, config.batch_tokens)
+        if model is None:
+            from scoring.lm import causal_lm
+
+            model = causal_lm(config.dtype, config.batch_tokens)
+        self.model = model
         self._references: dict[str, float] = {}
 
     def signature(self) -> Signature:
-        from scoring.models import resolve_dtype, short_checksum
-
         c = self.config
-        real = isinstance(self.model, CausalTokenModel)
-        name = "smollm2-135m@" + short_checksum("causal") if real else type(self.model).__name__
+        describe = getattr(self.model, "describe", None)
+        model = describe() if describe else {"model": type(self.model).__name__, "dtype": c.dtype}
         return Signature.build(
             "fluency",
-            {"model": name, "dtype": resolve_dtype(self.model.dtype) if real else c.dtype, "scale": c.scale,
+            {**model, "scale": c.scale,
              "flag_gap": c.flag_gap, "reference": f"source-sample-{c.reference_sentences}"},
             ("torch", "transformers", "spacy"),
         )

@@ -405,9 +405,9 @@ def _price_fluency(a: Analysis, wanted: list[tuple[int, Deletion]]) -> None:
 
 @functools.cache
 def _token_model():
-    from scoring.fluency import CausalTokenModel
+    from scoring.lm import causal_lm
 
-    return CausalTokenModel("auto")
+    return causal_lm("auto")
 
 
 def _mean(values: list[float]) -> float:

@@ -93,8 +93,8 @@ def test_signature_text():
 def test_baseline_is_computed_once_per_document():
     scorer = CoverageScorer()
     calls = []
-    real = scorer._rows
-    scorer._rows = lambda head, start, plan: calls.append(start) or real(head, start, plan)
+    real = scorer._runs  # one pass over the windows per prefix it is given
+    scorer._runs = lambda prefixes, plan: calls.extend(len(p) for p in prefixes) or real(prefixes, plan)
     scorer.score_many([GOOD, GOOD + " " + GOOD[:40], UNRELATED], source=SOURCE)
     # three summary passes, and one filler pass per distinct filler length (32-token buckets)
     assert len(calls) <= 3 + 2

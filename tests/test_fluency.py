@@ -121,13 +121,13 @@ def test_batched_reads_equal_a_direct_log_softmax():
     # what torch.log_softmax over the model's full logits gives for each text read alone.
     import torch
 
-    from scoring.fluency import CausalTokenModel
+    from scoring.lm import CausalLM
 
     texts = [["The board met on Tuesday."], ["Rain fell.", "The reservoir rose by a third over the week."],
              ["A much longer sentence about the pumping station, its two engines and the old canal."]]
-    model = CausalTokenModel("float32")
+    model = CausalLM("float32")
     batched = model.logprobs(texts)
-    lm, tok = model._parts
+    lm, tok = model.model, model.tokenizer
     bos = tok.convert_tokens_to_ids("<|endoftext|>")
     for pieces, got in zip(texts, batched):
         ids = [bos] + tok(" ".join(pieces), add_special_tokens=False).input_ids
