@@ -14,6 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from summarize import reading
+from summarize.reading import decode, entry
 from summarize.reading import (
     Block,
     Document,
@@ -547,12 +548,12 @@ def _permission(tmp_path, monkeypatch):
     def refuse(*args, **kwargs):
         raise PermissionError(13, "Permission denied")
 
-    monkeypatch.setattr(reading, "open", refuse, raising=False)
+    monkeypatch.setattr(entry, "open", refuse, raising=False)
     return path
 
 
 def _undecodable(tmp_path, monkeypatch):
-    monkeypatch.setattr(reading, "_guess_encoding", lambda data: None)
+    monkeypatch.setattr(decode, "_guess_encoding", lambda data: None)
     path = tmp_path / "odd.txt"
     path.write_bytes(b"caf\xe9 \xff\xfe menu")
     return path
