@@ -10,28 +10,38 @@ import re
 
 from summarize.reading.document import Block, Sink, clean
 
-
+# Block structure, one line at a time. Content that is skipped: fenced code, raw HTML blocks
+# whose text is not prose, comments (which may span lines).
 _FENCE_RE = re.compile(r"^\s*(`{3,}|~{3,})(.*)$")
+_RAW_BLOCK_RE = re.compile(r"^ {0,3}<(script|style|pre|textarea)(?:\s|>|$)", re.IGNORECASE)
+_COMMENT_RE = re.compile(r"<!--.*?-->", re.DOTALL)
+# Headings (ATX "# Title {#id}", setext underlines), breaks, list items, quotes, tables and
+# link or footnote definitions.
 _ATX_RE = re.compile(r"^ {0,3}(#{1,6})(?:[ \t]+(.*?))?(?:[ \t]+#+)?[ \t]*$")
 _SETEXT_RE = re.compile(r"^ {0,3}(=+|-+)[ \t]*$")
+_HEADING_ID_RE = re.compile(r"\s*\{#[^}]*\}\s*$")
 _HR_RE = re.compile(r"^ {0,3}([-*_])(?:[ \t]*\1){2,}[ \t]*$")
 _MD_ITEM_RE = re.compile(r"^(?P<indent> *)(?P<marker>[-*+]|\d{1,9}[.)])(?:[ \t]+(?P<text>.*))?$")
 _TASK_RE = re.compile(r"^\[[ xX]\]\s+")
+_QUOTE_RE = re.compile(r"^ {0,3}> ?")
 _TABLE_DELIM_RE = re.compile(r"^\s*\|?\s*:?-+:?\s*(?:\|\s*:?-+:?\s*)*\|?\s*$")
 _LINKDEF_RE = re.compile(r"^ {0,3}\[[^\]^]+\]:\s*\S+")
 _FOOTDEF_RE = re.compile(r"^ {0,3}\[\^[^\]]+\]:\s*")
-_RAW_BLOCK_RE = re.compile(r"^ {0,3}<(script|style|pre|textarea)(?:\s|>|$)", re.IGNORECASE)
-_QUOTE_RE = re.compile(r"^ {0,3}> ?")
-_COMMENT_RE = re.compile(r"<!--.*?-->", re.DOTALL)
-_HEADING_ID_RE = re.compile(r"\s*\{#[^}]*\}\s*$")
 
-_MD_ESCAPE_RE = re.compile(r"\\([!\"#$%&'()*+,\-./:;<=>?@\[\\\]^_`{|}~])")
-_MD_CODE_RE = re.compile(r"(`+)(.+?)(?<!`)\1(?!`)")
-_MD_AUTOLINK_RE = re.compile(r"<((?:https?|ftp|mailto):[^\s<>]+|[^\s<>@]+@[^\s<>@]+\.[A-Za-z]+)>")
-_MD_IMAGE_RE = re.compile(r"!\[[^\[\]]*\](?:\((?:[^()\s]|\([^()]*\))*(?:\s+[\"'(][^\n]*?[\"')])?\s*\)|\[[^\[\]]*\])")
-_MD_LINK_RE = re.compile(r"\[([^\[\]]*)\]\((?:[^()\s]|\([^()]*\))*(?:\s+[\"'(][^\n]*?[\"')])?\s*\)")
-_MD_REFLINK_RE = re.compile(r"\[([^\[\]]+)\]\[[^\[\]]*\]")
-_MD_FOOTREF_RE = re.compile(r"\[\^[^\[\]]+\]")
+# Inline markup, removed in this order by _md_inline.
+_PROTECTED = (  # text kept verbatim and hidden from the later steps: (pattern, the group holding it)
+    (re.compile(r"(`+)(.+?)(?<!`)\1(?!`)"), 2),  # code spans first: no escapes inside
+    (re.compile(r"\\([!\"#$%&'()*+,\-./:;<=>?@\[\\\]^_`{|}~])"), 1),  # backslash escapes
+    (re.compile(r"<((?:https?|ftp|mailto):[^\s<>]+|[^\s<>@]+@[^\s<>@]+\.[A-Za-z]+)>"), 1),  # autolinks
+)
+_DROPPED = (  # images, footnote references
+    re.compile(r"!\[[^\[\]]*\](?:\((?:[^()\s]|\([^()]*\))*(?:\s+[\"'(][^\n]*?[\"')])?\s*\)|\[[^\[\]]*\])"),
+    re.compile(r"\[\^[^\[\]]+\]"),
+)
+_LINKS = (  # inline and reference links: their text (group 1) stays
+    re.compile(r"\[([^\[\]]*)\]\((?:[^()\s]|\([^()]*\))*(?:\s+[\"'(][^\n]*?[\"')])?\s*\)"),
+    re.compile(r"\[([^\[\]]+)\]\[[^\[\]]*\]"),
+)
 _MD_TAG_RE = re.compile(r"</?[A-Za-z][A-Za-z0-9-]*(?:\s[^<>]*)?/?>")
 # Spans are bounded (500 characters) so that unmatched markers cannot make this quadratic.
 _MD_EMPHASIS = (
@@ -51,14 +61,13 @@ def _md_inline(text: str) -> str:
         saved.append(s)
         return f"\x00{len(saved) - 1}\x00"
 
-    text = _MD_CODE_RE.sub(lambda m: keep(m.group(2).strip()), text)  # code spans first: no escapes inside
-    text = _MD_ESCAPE_RE.sub(lambda m: keep(m.group(1)), text)
-    text = _MD_AUTOLINK_RE.sub(lambda m: keep(m.group(1)), text)
-    text = _MD_IMAGE_RE.sub("", text)
-    text = _MD_FOOTREF_RE.sub("", text)
+    for pattern, group in _PROTECTED:
+        text = pattern.sub(lambda m, g=group: keep(m.group(g).strip()), text)
+    for pattern in _DROPPED:
+        text = pattern.sub("", text)
     for _ in range(3):  # links may contain emphasis and vice versa
-        text = _MD_LINK_RE.sub(r"\1", text)
-        text = _MD_REFLINK_RE.sub(r"\1", text)
+        for pattern in _LINKS:
+            text = pattern.sub(r"\1", text)
     text = _MD_TAG_RE.sub(lambda m: " " if m.group(0).lower().startswith("<br") else "", text)
     for _ in range(4):
         before = text
