@@ -8,7 +8,6 @@ import re
 
 from summarize.reading.document import Block, ReadError, Sink, clean, reason
 
-
 _DOCX_HEADING_RE = re.compile(r"^heading\s*(\d)$", re.IGNORECASE)
 _DOCX_LIST_LEVEL_RE = re.compile(r"(\d)\s*$")
 

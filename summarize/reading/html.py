@@ -10,7 +10,6 @@ import re
 
 from summarize.reading.document import Block, Sink, clean
 
-
 _HTML_DROP = frozenset(
     """script style noscript nav header footer aside form template svg math iframe object embed
     canvas video audio map button select option optgroup textarea input label datalist dialog

@@ -12,7 +12,6 @@ from summarize.reading import txt
 from summarize.reading.decode import prepare
 from summarize.reading.document import Block, ReadError, clean, reason
 
-
 _LIGATURES = str.maketrans({"\ufb00": "ff", "\ufb01": "fi", "\ufb02": "fl", "\ufb03": "ffi", "\ufb04": "ffl", "\ufb05": "st", "\ufb06": "st"})
 _HYPHEN_BREAK_RE = re.compile(r"(\w)[-\u00ad][ \t]*\n[ \t]*(?=[a-z])")
 _PAGE_NUMBER_RE = re.compile(r"^(?:page\s+)?\d{1,4}(?:\s*(?:of|/)\s*\d{1,4})?$|^[-\u2013]\s*\d{1,4}\s*[-\u2013]$", re.IGNORECASE)

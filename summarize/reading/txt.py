@@ -9,7 +9,6 @@ import re
 
 from summarize.reading.document import Block, Sink
 
-
 _SEPARATOR_RE = re.compile(r"^(?:([=\-_*~#+])\1{2,}|(?:[*\-_] ){2,}[*\-_])$")
 _BULLET_RE = re.compile(
     r"^(?P<indent>\s*)(?P<marker>[-*\u2022\u25e6\u2023\u25aa\u2013\u00b7]|\(?[a-z]\)|\(?[ivx]{2,4}\)|\(?\d{1,3}\)|\d{1,3}\.)"
