@@ -14,6 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from summarize import reading
+from summarize.reading import decode, entry
 from summarize.reading import (
     Block,
     Document,
@@ -462,6 +463,36 @@ def test_md_file_read_as_plain_text_keeps_markup_but_md_strips_it(tmp_path):
     assert read_document(tmp_path / "a.md").text == "Some bold words."
 
 
+def _demo_of(suffix: str, tmp_path: Path) -> Path:
+    found = [path for path in sorted(DEMO.glob(f"*{suffix}")) if path.stem != "README"]
+    if not found:
+        pytest.skip(f"no {suffix} document in {DEMO}")
+    return found[0]
+
+
+def _pdf_of(suffix: str, tmp_path: Path) -> Path:
+    path = tmp_path / f"gauge{suffix}"
+    path.write_bytes(make_pdf([GAUGE_NOTE, [(11, "the gauge was read again on the next visit.")]], gap_after=({0},)))
+    return path
+
+
+def _docx_of(suffix: str, tmp_path: Path) -> Path:
+    return make_docx(tmp_path / f"orchard{suffix}")
+
+
+@pytest.mark.parametrize(
+    "suffix, make",
+    [(".txt", _demo_of), (".md", _demo_of), (".html", _demo_of), (".pdf", _pdf_of), (".docx", _docx_of)],
+)
+def test_bytes_in_memory_read_like_the_file_on_disk(tmp_path, suffix, make):
+    path = make(suffix, tmp_path)
+    on_disk = read_document(path)
+    in_memory = reading.read(path.read_bytes(), name=str(path))
+    assert in_memory == on_disk == reading.read(path)
+    assert (in_memory.format, in_memory.source) == (reading.EXTENSIONS[suffix], str(path))
+    assert reading.read(path.read_bytes(), in_memory.format).blocks == on_disk.blocks
+
+
 # --------------------------------------------------------------------------------------------
 # Decoding
 # --------------------------------------------------------------------------------------------
@@ -547,12 +578,12 @@ def _permission(tmp_path, monkeypatch):
     def refuse(*args, **kwargs):
         raise PermissionError(13, "Permission denied")
 
-    monkeypatch.setattr(reading, "open", refuse, raising=False)
+    monkeypatch.setattr(entry, "open", refuse, raising=False)
     return path
 
 
 def _undecodable(tmp_path, monkeypatch):
-    monkeypatch.setattr(reading, "_guess_encoding", lambda data: None)
+    monkeypatch.setattr(decode, "_guess_encoding", lambda data: None)
     path = tmp_path / "odd.txt"
     path.write_bytes(b"caf\xe9 \xff\xfe menu")
     return path
