@@ -30,6 +30,7 @@ from collections import Counter
 import numpy as np
 
 from scoring.text import count_words, split_sentences
+from summarize.embed import stem
 
 DAMPING = 0.85  # PageRank's damping factor (Brin & Page 1998); TextRank and LexRank use it too
 LEXRANK_THRESHOLD = 0.1  # Erkan & Radev (2004) report 0.1 as the best cosine threshold
@@ -53,21 +54,13 @@ _WORD = re.compile(r"[a-z0-9]+")
 _NONSPACE = re.compile(r"\S+")
 
 
-@functools.cache
-def _stemmer():
-    from nltk.stem.porter import PorterStemmer
-
-    return PorterStemmer()
-
-
-@functools.lru_cache(maxsize=200_000)
-def _stem(word: str) -> str:
-    return _stemmer().stem(word)
-
-
 def terms(sentence: str) -> list[str]:
-    """Index terms of a sentence: lowercased regex words, stop words dropped, Porter-stemmed."""
-    return [_stem(w) for w in _WORD.findall(sentence.lower()) if w not in STOPWORDS]
+    """Index terms of a sentence: lowercased regex words, stop words dropped, Porter-stemmed.
+
+    The stemmer is the summarizer's cached Porter stemmer (``summarize.embed.stem``, NLTK's
+    ``PorterStemmer``); the words and the stop list are the baselines' own.
+    """
+    return [stem(w) for w in _WORD.findall(sentence.lower()) if w not in STOPWORDS]
 
 
 def tfidf_vectors(sentences: list[str]) -> np.ndarray:
@@ -185,22 +178,23 @@ def lexrank_scores(sentences: list[str], threshold: float = LEXRANK_THRESHOLD, d
     return pagerank(adjacency, damping)
 
 
-def textrank(text: str, budget: int) -> str:
-    """TextRank (Mihalcea & Tarau 2004) over a tf-idf cosine sentence graph, filled to the budget."""
+def _ranked_summary(text: str, budget: int, rank) -> str:
+    """The text's sentences scored by ``rank(sentences)``, filled to the budget best-first."""
     _check_budget(budget)
     sentences = split_sentences(text)
     if budget == 0 or not sentences:
         return ""
-    return _fill_in_rank_order(sentences, textrank_scores(sentences), budget)
+    return _fill_in_rank_order(sentences, rank(sentences), budget)
+
+
+def textrank(text: str, budget: int) -> str:
+    """TextRank (Mihalcea & Tarau 2004) over a tf-idf cosine sentence graph, filled to the budget."""
+    return _ranked_summary(text, budget, textrank_scores)
 
 
 def lexrank(text: str, budget: int) -> str:
     """LexRank (Erkan & Radev 2004), thresholded at 0.1, power method, filled to the budget."""
-    _check_budget(budget)
-    sentences = split_sentences(text)
-    if budget == 0 or not sentences:
-        return ""
-    return _fill_in_rank_order(sentences, lexrank_scores(sentences), budget)
+    return _ranked_summary(text, budget, lexrank_scores)
 
 
 # --- greedy ROUGE oracle ------------------------------------------------------------------------
