@@ -36,11 +36,12 @@ How it reports a lost worker
 
 How it is stopped
     ``close(cancel=False)`` is called exactly once per started engine at the end of the run
-    and must not raise. ``cancel=False``: every task has finished; release the workers and wait
-    for them. ``cancel=True`` (Ctrl-C, SIGTERM, an error in the run): return promptly,
-    terminating the tasks still running; their outcomes are not recorded and the next run
-    does them again. Worker processes must ignore SIGINT (Ctrl-C is the run's) and, where they
-    run on this machine, exit on their own when the run's process dies.
+    and must not raise. ``cancel=False``: the run is over (normally every task has finished,
+    unless the run itself failed); release the workers, letting a task still running end.
+    ``cancel=True`` (Ctrl-C or SIGTERM): return promptly, terminating the tasks still running;
+    their outcomes are not recorded and the next run does them again. Worker processes that
+    the engine starts must ignore SIGINT (Ctrl-C is the run's) and, on this machine, exit on
+    their own when the run's process dies (it may be killed without a chance to close).
 
 Thread settings
     Each worker process loads the models once and uses a share of its host's cores: the
