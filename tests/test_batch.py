@@ -1,4 +1,4 @@
-"""Batch runs over folders (summarize/batch.py and `boildown batch`).
+"""Batch runs over folders (the summarize/batch package and `boildown batch`).
 
 Most tests use ``LeadJob`` (the document's opening words, no models; optionally a delay per
 document) so they run in seconds; they still read every document for real, so every reading
@@ -36,7 +36,7 @@ import pytest
 from click.testing import CliRunner
 
 from summarize import batch, reading
-from summarize.batch import LeadJob, run_batch
+from summarize.batch import LeadJob, discovery, run_batch
 from summarize.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -320,7 +320,7 @@ def test_discover_includes_excludes_hidden_and_the_output_folder(tmp_path):
 
 BAD_CASES = [
     # (relative path, a fragment of the recorded reason); the wording comes from reading.py's
-    # ReadError messages and batch.py's own checks
+    # ReadError messages and the batch package's own checks
     ("empty.txt", "is empty; give a file that contains text"),
     ("binary.txt", "looks like a binary file"),
     ("random_bytes.txt", "is not in a text encoding that could be recognised; re-save it as UTF-8"),
@@ -354,7 +354,7 @@ def bad_run(tmp_path_factory):
     os.symlink("nowhere/gone.txt", src / "dangling.txt")
     os.symlink("..", src / "folder.txt" / "up")  # a link to a folder that loops back: not followed
     os.mkfifo(src / "pipe.txt")
-    real_open = batch._open_bytes
+    real_open = discovery._open_bytes
 
     def open_as_a_user(path):
         # tests run as root, which ignores permission bits; refuse as the OS refuses other users
@@ -365,7 +365,7 @@ def bad_run(tmp_path_factory):
     out = base / "out"
     with pytest.MonkeyPatch.context() as mp:
         mp.setattr(reading, "MAX_BYTES", 10_000)
-        mp.setattr(batch, "_open_bytes", open_as_a_user)
+        mp.setattr(discovery, "_open_bytes", open_as_a_user)
         result = CliRunner().invoke(main, ["batch", str(src), "--out", str(out), "--words", "12", "--workers", "2",
                                            "--job", "lead", "-q"])
     return result, out
