@@ -118,7 +118,7 @@ def test_summaries_mirror_paths_and_each_document_has_one_record(tmp_path):
     assert first["words"] == 12 and first["budget"] == 12 and first["status"] == "done"
     assert first["sha256"] == __import__("hashlib").sha256((src / "note_00.txt").read_bytes()).hexdigest()
     assert first["settings"] == {"job": "lead", "words": 12, "ratio": None, "candidates": 3}
-    assert first["signatures"]["summary"] == "lead|words:12|candidates:3|v:0.1.0"
+    assert first["signatures"]["summary"] == "lead(words=12, candidates=3) on boildown 0.1.0"
     assert first["error"] is None and first["summary_file"] == "note_00.summary.txt"
     assert set(first["timings"]) >= {"read_s", "summarize_s", "worker_s", "wall_s"}
     assert summary_files(out)["note_00.summary.txt"] == first["summary"] + "\n"
@@ -685,8 +685,8 @@ def test_real_summarizer_on_two_tiny_documents(tmp_path):
         assert set(record["scores"]) == {"combined", "coverage", "fluency", "agreement", "over_budget"}
         assert record["scores"]["agreement"] is None  # one candidate: nothing to agree with
         assert 0 <= record["scores"]["coverage"] <= 1 and record["scores"]["over_budget"] is False
-        assert record["signatures"]["summary"] == "summarize|words:30|candidates:1|v:0.1.0"
-        assert record["signatures"]["coverage"].startswith("coverage|model:")
+        assert record["signatures"]["summary"] == "summarize(words=30, candidates=1) on boildown 0.1.0"
+        assert record["signatures"]["coverage"].startswith("coverage(model=")
         assert record["signatures"]["fluency"].startswith("fluency|model:")
         assert record["signatures"]["combined"].startswith("combined|agr:0.5|cov:0.375|flu:0.125")
         assert (out / record["summary_file"]).read_text(encoding="utf-8") == record["summary"] + "\n"

@@ -102,8 +102,12 @@ def test_a_new_run_writes_the_old_format(tmp_path):
     for path, record in new.items():
         assert list(record) == list(old[path]), path  # same keys in the same order
         assert list(record["timings"]) == list(old[path]["timings"]), path
-        assert {k: v for k, v in record.items() if k not in VOLATILE} == \
-               {k: v for k, v in old[path].items() if k not in VOLATILE}, path
+        # the signatures' one-line text changed layout on purpose (issue: a layout of our own);
+        # the same signatures must be there, and everything else must be equal
+        changed = set(VOLATILE) | {"signatures"}
+        assert {k: v for k, v in record.items() if k not in changed} == \
+               {k: v for k, v in old[path].items() if k not in changed}, path
+        assert list(record["signatures"] or {}) == list(old[path]["signatures"] or {}), path
 
 
 def test_the_manifest_accepts_a_record_or_its_json_object(tmp_path):
