@@ -23,7 +23,7 @@ from __future__ import annotations
 import functools
 from dataclasses import dataclass, field
 
-from scoring.base import Signature
+from scoring.base import Column, Signature, result_dict
 
 
 @dataclass(frozen=True)
@@ -48,15 +48,25 @@ class AgreementScore:
     closest_value: float
     signature: Signature = field(compare=False)
 
+    @property
+    def unit(self) -> float:
+        """The value in [0, 1] the combined score uses."""
+        return self.value
+
     def to_dict(self) -> dict:
-        return {"value": self.value, "others": self.others, "closest": self.closest,
-                "closest_value": self.closest_value, "signature": self.signature.to_dict()}
+        return result_dict(self)
 
 
 class AgreementScorer:
     """Each candidate's mean ROUGE-N F1 against the other candidates of the pool."""
 
     name = "agreement"
+    label = "Agreement"
+    description = ("with 3 or more candidates, each one's mean ROUGE-2 F1 against the others: the typical "
+                   "candidate scores high, and a point every candidate leaves out costs none of them")
+    needs = "pool"
+    Config = AgreementConfig
+    columns = (Column("agreement", lambda r: r.value, "num3", "agreement", "Agreement"),)
 
     def __init__(self, config: AgreementConfig = AgreementConfig()):
         self.config = config
@@ -79,7 +89,7 @@ class AgreementScorer:
             raise ValueError("agreement compares a candidate with the other candidates: pass reference=[...]")
         return self._result([self._f1(summary, o) for o in others], list(range(len(others))))
 
-    def score_many(self, summaries: list[str], *, source=None) -> list[AgreementScore | None]:
+    def score_many(self, summaries: list[str], *, source=None, references=None) -> list[AgreementScore | None]:
         """Agreement of every candidate with the rest of the pool (``closest`` indexes the pool);
         ``None`` for each when the pool is smaller than ``min_candidates``."""
         n = len(summaries)

@@ -1,4 +1,4 @@
-"""Shared result types: the reproducibility signature every score carries.
+"""What every scorer shares: the reproducibility signature, the scorer protocol, result columns.
 
 A signature lists, in a fixed order, every setting and version that a score depends on. It
 prints as one line (easy to paste into a paper or a bug report) and serialises to JSON with the
@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import functools
 import importlib.metadata
-from dataclasses import dataclass
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, fields
+from typing import ClassVar, Protocol, runtime_checkable
 
 
 @functools.cache
@@ -67,3 +69,65 @@ def _fmt(value) -> str:
     if isinstance(value, float):
         return f"{value:g}"
     return str(value)
+
+
+# --------------------------------------------------------------------------- the scorer shape
+
+NEEDS = ("source", "pool", "references")
+"""What a scorer reads beside each summary: its source, the other candidates of the same source
+(the pool), or human reference summaries (it runs only when some are given)."""
+
+KINDS = ("pct", "num2", "num3", "num4", "int", "words")
+"""How a column's value is printed: a percentage, a number to 2/3/4 places, a whole number, a list of words."""
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column a scorer adds to the result rows (the CSV, the terminal table, the page).
+
+    ``get`` takes the scorer's result and returns the value; ``header`` is the terminal table's
+    heading and ``title`` the page's (empty: the column is in the CSV only)."""
+
+    key: str
+    get: Callable[[object], object]
+    kind: str = "num4"
+    header: str = ""
+    title: str = ""
+
+    def __post_init__(self):
+        if self.kind not in KINDS:
+            raise ValueError(f"column {self.key!r}: kind must be one of {KINDS}, got {self.kind!r}")
+
+
+@runtime_checkable
+class Scorer(Protocol):
+    """What every scorer offers (see ``scoring.registry`` for the list of them).
+
+    Class attributes: ``name`` (the registry key and the JSON key of its results), ``label``
+    (a heading), ``description`` (one sentence saying what the number means: the help, the
+    tables' legends and the page print it), ``needs`` (one of ``NEEDS``), ``Config`` (its frozen
+    config dataclass, validated when built) and ``columns`` (what it adds to the result rows).
+    Results are frozen dataclasses with ``value``, their evidence, ``signature`` and ``to_dict()``.
+    """
+
+    name: ClassVar[str]
+    label: ClassVar[str]
+    description: ClassVar[str]
+    needs: ClassVar[str]
+    Config: ClassVar[type]
+    columns: ClassVar[tuple[Column, ...]]
+    config: object
+
+    def signature(self) -> Signature: ...
+
+    def score_many(self, summaries: Sequence[str], *, source: str | None = None,
+                   references: Sequence[str] | None = None) -> list: ...
+
+
+def result_dict(result, **derived) -> dict:
+    """A result dataclass as JSON-ready data: its fields in order (``derived`` replaces or adds
+    entries), then its signature's dict last."""
+    out = {f.name: getattr(result, f.name) for f in fields(result) if f.name != "signature"}
+    out.update(derived)
+    out["signature"] = result.signature.to_dict()
+    return out

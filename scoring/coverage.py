@@ -33,7 +33,7 @@ import functools
 import math
 from dataclasses import dataclass, field
 
-from scoring.base import Signature
+from scoring.base import Column, Signature, result_dict
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
 
 HEADLINES = ("logprob", "accuracy", "prob")
@@ -142,23 +142,14 @@ class CoverageScore:
     def known(self) -> tuple[str, ...]:
         return tuple(k.word for k in self.keywords if k.status == "known")
 
+    @property
+    def unit(self) -> float:
+        """The value in [0, 1] the combined score uses: ``share``."""
+        return self.share
+
     def to_dict(self) -> dict:
-        return {
-            "value": self.value,
-            "share": self.share,
-            "logprob_gain": self.logprob_gain,
-            "accuracy_gain": self.accuracy_gain,
-            "prob_gain": self.prob_gain,
-            "accuracy_with": self.accuracy_with,
-            "accuracy_without": self.accuracy_without,
-            "n_keywords": self.n_keywords,
-            "n_blanks": self.n_blanks,
-            "recovered": list(self.recovered),
-            "missed": list(self.missed),
-            "known": list(self.known),
-            "keywords": [k.__dict__ | {"status": k.status} for k in self.keywords],
-            "signature": self.signature.to_dict(),
-        }
+        return result_dict(self, recovered=list(self.recovered), missed=list(self.missed), known=list(self.known),
+                           keywords=[k.__dict__ | {"status": k.status} for k in self.keywords])
 
 
 @dataclass(frozen=True)
@@ -187,6 +178,18 @@ class CoverageScorer:
     """Masked key-word recovery with the packaged causal model (route: causal left context)."""
 
     name = "coverage"
+    label = "Coverage"
+    description = ("the share of the model's uncertainty about the source's blanked key words that the summary "
+                   "removes: how much of the source's key content it carries (the key words still missed are listed)")
+    needs = "source"
+    Config = CoverageConfig
+    columns = (
+        Column("coverage", lambda r: r.share, "pct", "coverage", "Coverage"),
+        Column("coverage_logprob_gain", lambda r: r.logprob_gain),
+        Column("coverage_accuracy_gain", lambda r: r.accuracy_gain),
+        Column("recovered", lambda r: r.recovered, "words"),
+        Column("missed", lambda r: r.missed, "words"),
+    )
 
     def __init__(self, config: CoverageConfig = CoverageConfig()):
         self.config = config
@@ -194,10 +197,10 @@ class CoverageScorer:
 
     # ------------------------------------------------------------------ public
 
-    def score(self, summary: str, *, source: str) -> CoverageScore:
+    def score(self, summary: str, *, source: str, reference=None) -> CoverageScore:
         return self.score_many([summary], source=source)[0]
 
-    def score_many(self, summaries: list[str], *, source: str) -> list[CoverageScore]:
+    def score_many(self, summaries: list[str], *, source: str, references=None) -> list[CoverageScore]:
         """Score several summaries of one source; the plan and baselines are shared, and the
         summaries' own passes over the prefix run together in batches (``HEAD_GROUP`` at a time)."""
         if not source or not source.strip():

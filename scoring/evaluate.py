@@ -1,50 +1,76 @@
-"""Run every scorer over a set of candidate summaries of one source, and rank them.
+"""Run every registered scorer over a set of candidate summaries of one source, and rank them.
 
 One ``Evaluator`` per process holds the scorers, so a source's key words, its coverage
 baseline and its reference perplexity are computed once and reused by every candidate (the
-``score`` and ``compare`` commands, and the summarizer's candidate search, all come here).
+``score`` and ``compare`` commands, the summarizer's candidate search and batch all come here).
+The scorers are the registry's (``scoring.registry``): one that reads the source or the pool
+always runs, one that reads references runs when references are given.
 """
 
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass, field
-from typing import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 
-from scoring.agreement import AgreementConfig, AgreementScorer
-from scoring.combine import Candidate, CombineConfig, combined_score, rank
-from scoring.coverage import CoverageConfig, CoverageScorer
-from scoring.fluency import FluencyConfig, FluencyScorer
+from scoring import registry
+from scoring.combine import Candidate, CombineConfig, rank
+from scoring.text import count_words
 
 
-@dataclass(frozen=True)
 class EvalConfig:
-    coverage: CoverageConfig = field(default_factory=CoverageConfig)
-    fluency: FluencyConfig = field(default_factory=FluencyConfig)
-    agreement: AgreementConfig = field(default_factory=AgreementConfig)
-    combine: CombineConfig = field(default_factory=CombineConfig)
+    """Every scorer's config (a registered name's default unless given) and the combined score's.
+
+        EvalConfig(coverage=CoverageConfig(keywords=30))
+        EvalConfig().coverage.keywords   # 40, the default
+
+    Immutable, comparable and hashable like the frozen configs it holds."""
+
+    __slots__ = ("combine", "_configs")
+
+    def __init__(self, combine: CombineConfig | None = None, **configs):
+        for name, config in configs.items():
+            expected = registry.scorer_class(name).Config  # an unknown name fails here
+            if not isinstance(config, expected):
+                raise ValueError(f"{name} needs a {expected.__name__}, got {type(config).__name__}")
+        object.__setattr__(self, "combine", combine or CombineConfig())
+        object.__setattr__(self, "_configs", tuple(sorted(configs.items())))
+
+    def of(self, name: str):
+        """The config of scorer ``name``."""
+        return dict(self._configs).get(name) or registry.scorer_class(name).Config()
+
+    def __getattr__(self, name: str):
+        if name in registry.SCORERS:
+            return self.of(name)
+        raise AttributeError(name)
+
+    def __setattr__(self, name, value):
+        raise AttributeError("EvalConfig is immutable; build a new one")
+
+    def __eq__(self, other):
+        return isinstance(other, EvalConfig) and (self.combine, self._configs) == (other.combine, other._configs)
+
+    def __hash__(self):
+        return hash((self.combine, self._configs))
+
+    def __repr__(self):
+        inner = ", ".join(f"{n}={c!r}" for n, c in self._configs)
+        return f"EvalConfig({inner + ', ' if inner else ''}combine={self.combine!r})"
 
 
 class Evaluator:
-    """Scores and ranks candidates; reference scores only when references are given."""
+    """Scores and ranks candidates with every registered scorer (``evaluator.coverage`` etc. are
+    the scorer objects)."""
 
-    def __init__(self, config: EvalConfig = EvalConfig()):
-        self.config = config
-        self.coverage = CoverageScorer(config.coverage)
-        self.fluency = FluencyScorer(config.fluency)
-        self.agreement = AgreementScorer(config.agreement)
+    def __init__(self, config: EvalConfig | None = None):
+        self.config = config or EvalConfig()
+        self.scorers = {name: registry.build(name, self.config.of(name)) for name in registry.names()}
 
-    @functools.cached_property
-    def rouge(self):
-        from scoring.reference import RougeScorer
-
-        return RougeScorer()
-
-    @functools.cached_property
-    def bertscore(self):
-        from scoring.reference import BertScoreScorer
-
-        return BertScoreScorer()
+    def __getattr__(self, name: str):
+        scorers = self.__dict__.get("scorers", {})
+        if name in scorers:
+            return scorers[name]
+        raise AttributeError(name)
 
     def evaluate(
         self,
@@ -56,42 +82,29 @@ class Evaluator:
         progress: Callable[[str], None] | None = None,
     ) -> list[Candidate]:
         """Score (name, text) pairs against the source; return them ranked."""
-        from scoring.text import count_words
-
         if not source or not source.strip():
             raise ValueError("the source is empty: there is nothing to summarise or cover")
         say = progress or (lambda _m: None)
         texts = [text for _, text in candidates]
-        say(f"coverage of {len(texts)} candidate(s)")
-        coverage = self.coverage.score_many(texts, source=source)
-        say("fluency")
-        fluency = self.fluency.score_many(texts, source=source)
-        agreement = self.agreement.score_many(texts)  # None for each when fewer than 3 candidates
         refs = [r for r in (references or []) if r and r.strip()]
-        rouge = bert = [None] * len(texts)
-        if refs:
-            say("ROUGE and BERTScore against the reference(s)")
-            rouge = [self.rouge.score(t, reference=refs) for t in texts]
-            bert = self.bertscore.score_many(texts, reference=refs)
+        results: dict[str, list] = {}
+        for name, scorer in self.scorers.items():
+            if scorer.needs == "references" and not refs:
+                continue
+            if scorer.needs != "pool":
+                say(f"{name} of {len(texts)} candidate(s)")
+            results[name] = scorer.score_many(texts, source=source, references=refs or None)
         out = []
-        for (name, text), cov, flu, agr, rg, bs in zip(candidates, coverage, fluency, agreement, rouge, bert):
-            out.append(
-                Candidate(
-                    name=name,
-                    text=text,
-                    words=count_words(text),
-                    budget=budget,
-                    coverage=cov,
-                    fluency=flu,
-                    combined=combined_score(cov.share, flu.value, agr.value if agr is not None else None,
-                                            self.config.combine),
-                    rouge=rg,
-                    bertscore=bs,
-                    agreement=agr,
-                    combine=self.config.combine,
-                )
-            )
+        for i, (name, text) in enumerate(candidates):
+            scores = {key: found[i] for key, found in results.items()}
+            out.append(Candidate(name=name, text=text, words=count_words(text), budget=budget, scores=scores,
+                                 combined=self.combined(scores), combine=self.config.combine))
         return rank(out)
+
+    def combined(self, scores: Mapping[str, object]) -> float:
+        """The combined score of one candidate's results."""
+        return self.config.combine.value({name: r.unit if r is not None else None for name, r in scores.items()
+                                          if name in dict(self.config.combine.weights)})
 
 
 @functools.cache

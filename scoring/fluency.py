@@ -24,7 +24,7 @@ import re
 from dataclasses import dataclass, field
 from typing import Protocol
 
-from scoring.base import Signature
+from scoring.base import Column, Signature, result_dict
 
 # log PP of edited English prose under SmolLM2-135M (Q4_1 dequantised, bfloat16), each sentence
 # read on its own: median 4.65 over 1,253 sentences of the demo documents and 5.23 over 199
@@ -80,14 +80,14 @@ class FluencyScore:
     def flagged(self) -> tuple[SentenceFluency, ...]:
         return tuple(s for s in self.sentences if s.flags)
 
+    @property
+    def unit(self) -> float:
+        """The value in [0, 1] the combined score uses."""
+        return self.value
+
     def to_dict(self) -> dict:
-        return {
-            "value": self.value,
-            "perplexity": self.perplexity,
-            "reference_perplexity": self.reference_perplexity,
-            "sentences": [{"text": s.text, "perplexity": s.perplexity, "flags": list(s.flags)} for s in self.sentences],
-            "signature": self.signature.to_dict(),
-        }
+        return result_dict(self, sentences=[{"text": s.text, "perplexity": s.perplexity, "flags": list(s.flags)}
+                                            for s in self.sentences])
 
 
 def perplexity(logprobs: list[float]) -> float:
@@ -120,6 +120,15 @@ class FluencyScorer:
     """Perplexity-based fluency with sentence flags."""
 
     name = "fluency"
+    label = "Fluency"
+    description = ("how easily the summary reads, from the small language model's perplexity relative to the "
+                   "source's: 1 = as easily as the source, lower = harder going")
+    needs = "source"
+    Config = FluencyConfig
+    columns = (
+        Column("fluency", lambda r: r.value, "num2", "fluency", "Fluency"),
+        Column("perplexity", lambda r: r.perplexity),
+    )
 
     def __init__(self, config: FluencyConfig = FluencyConfig(), model: TokenModel | None = None):
         self.config = config
@@ -141,10 +150,10 @@ class FluencyScorer:
             ("torch", "transformers", "spacy"),
         )
 
-    def score(self, summary: str, *, source: str | None = None) -> FluencyScore:
+    def score(self, summary: str, *, source: str | None = None, reference=None) -> FluencyScore:
         return self.score_many([summary], source=source)[0]
 
-    def score_many(self, summaries: list[str], *, source: str | None = None) -> list[FluencyScore]:
+    def score_many(self, summaries: list[str], *, source: str | None = None, references=None) -> list[FluencyScore]:
         from scoring.text import split_sentences
 
         ref = self.reference_log_pp(source)

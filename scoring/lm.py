@@ -91,7 +91,7 @@ class CausalLM:
             cols = torch.cat([torch.arange(lengths[i] - 1) for i in batch])
             with torch.inference_mode():
                 hidden = self.model.model(input_ids=ids).last_hidden_state[rows, cols]
-            values = self._target_logprobs(hidden, ids[rows, cols + 1])[0].tolist()
+            values = self._target_logprobs(hidden, ids[rows, cols + 1]).tolist()
             at = 0
             for i in batch:
                 mine = values[at : at + lengths[i] - 1]
@@ -146,27 +146,27 @@ class CausalLM:
                 ])
                 positions = (start + torch.arange(width)).unsqueeze(0).expand(len(batch), -1)
                 hidden = self.model.model(input_ids=ids, cache=cache, position_ids=positions).last_hidden_state
-                picked = hidden[[a[0] for a in asked], [a[1] for a in asked]]
-                logprob, best = self._target_logprobs(picked, torch.tensor([a[2] for a in asked]), argmax=True)
+                # the asked positions are few (one per key-word piece): one vocabulary product
+                logp = torch.log_softmax(self.model.lm_head(hidden[[a[0] for a in asked], [a[1] for a in asked]]).float(),
+                                         dim=-1)
+                logprob = logp.gather(1, torch.tensor([a[2] for a in asked])[:, None])[:, 0]
+                best = logp.argmax(dim=-1)
                 for n, (_, _, target, j) in enumerate(asked):
                     answers[j].append((float(logprob[n]), bool(best[n] == target)))
         return answers
 
-    def _target_logprobs(self, hidden, targets, argmax: bool = False):
+    def _target_logprobs(self, hidden, targets):
         """log p(target) at each hidden state, as logit - logsumexp, the vocabulary layer run in
-        slices; with ``argmax`` also each position's top token."""
+        slices (a text's every position is read)."""
         import torch
 
         logprob = torch.empty(len(targets))
-        best = torch.empty(len(targets), dtype=torch.long) if argmax else None
         with torch.inference_mode():
             for k in range(0, len(targets), VOCAB_SLICE):
                 logits = self.model.lm_head(hidden[k : k + VOCAB_SLICE]).float()
                 picked = logits.gather(1, targets[k : k + VOCAB_SLICE, None])[:, 0]
                 logprob[k : k + VOCAB_SLICE] = picked - torch.logsumexp(logits, dim=-1)
-                if argmax:
-                    best[k : k + VOCAB_SLICE] = logits.argmax(dim=-1)
-        return logprob, best
+        return logprob
 
 
 @functools.cache

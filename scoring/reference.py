@@ -29,7 +29,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 from scoring import models  # first: importing it forces the Hugging Face libraries offline
-from scoring.base import Signature
+from scoring.base import Column, Signature, result_dict
 
 ROUGE_TYPES = ("rouge1", "rouge2", "rougeL", "rougeLsum")
 SPLITS = ("syntok", "lines")
@@ -110,21 +110,31 @@ class RougeScore:
         return self.scores[rouge_type]["f1"]
 
     def to_dict(self) -> dict:
-        return {
-            "scores": {kind: dict(prf) for kind, prf in self.scores.items()},
-            "references": self.references,
-            "best_reference": dict(self.best_reference),
-            "signature": self.signature.to_dict(),
-        }
+        return result_dict(self, scores={kind: dict(prf) for kind, prf in self.scores.items()},
+                           best_reference=dict(self.best_reference))
 
 
 class RougeScorer:
     """ROUGE through rouge-score, with ROUGE-Lsum on one sentence per line (as ROUGE-1.5.5.pl)."""
 
     name = "rouge"
+    label = "ROUGE"
+    description = ("ROUGE F1 against the reference summaries given (rouge-score, stemmed; with several "
+                   "references the best one per ROUGE type)")
+    needs = "references"
+    Config = RougeConfig
+    columns = tuple(
+        Column(kind, lambda r, kind=kind: r.f1(kind), "num3", header, title)
+        for kind, header, title in (("rouge1", "R-1", "ROUGE-1 F1"), ("rouge2", "R-2", "ROUGE-2 F1"),
+                                    ("rougeL", "", ""), ("rougeLsum", "R-Lsum", "ROUGE-Lsum F1"))
+    )
 
     def __init__(self, config: RougeConfig = RougeConfig()):
         self.config = config
+
+    def score_many(self, summaries: Sequence[str], *, source=None, references: Reference | None = None) -> list[RougeScore]:
+        """Score several summaries against the same reference(s)."""
+        return [self.score(s, reference=references) for s in summaries]
 
     def score(self, summary: str, *, reference: Reference | None = None) -> RougeScore:
         """Score a summary against one reference or the best of several (per type, by F1)."""
@@ -234,30 +244,29 @@ class BertScore:
     signature: Signature = field(compare=False)
 
     def to_dict(self) -> dict:
-        return {
-            "precision": self.precision,
-            "recall": self.recall,
-            "f1": self.f1,
-            "references": self.references,
-            "truncated": self.truncated,
-            "signature": self.signature.to_dict(),
-        }
+        return result_dict(self)
 
 
 class BertScoreScorer:
     """BERTScore through bert-score with the packaged MiniLM encoder, on the CPU, offline."""
 
     name = "bertscore"
+    label = "BERTScore"
+    description = ("BERTScore F1 against the reference summaries given (bert-score with the packaged MiniLM "
+                   "encoder, not rescaled)")
+    needs = "references"
+    Config = BertScoreConfig
+    columns = (Column("bertscore", lambda r: r.f1, "num3", "BERTSc", "BERTScore F1"),)
 
     def __init__(self, config: BertScoreConfig = BertScoreConfig()):
         self.config = config
 
     def score(self, summary: str, *, reference: Reference | None = None) -> BertScore:
-        return self.score_many([summary], reference=reference)[0]
+        return self.score_many([summary], references=reference)[0]
 
-    def score_many(self, summaries: Sequence[str], *, reference: Reference | None = None) -> list[BertScore]:
+    def score_many(self, summaries: Sequence[str], *, source=None, references: Reference | None = None) -> list[BertScore]:
         """Score several summaries against the same reference(s) in one bert-score call."""
-        refs = _references(reference, "BERTScore")
+        refs = _references(references, "BERTScore")
         idf_sentences = _idf_sentences(refs) if self.config.idf else None
         texts = [s or "" for s in summaries]
         todo = [i for i, s in enumerate(texts) if s.strip()]

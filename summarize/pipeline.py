@@ -17,7 +17,7 @@ from typing import Callable
 from summarize.recipes import RECIPES, variants
 
 DEFAULT_WORDS = 150
-from summarize.search import Draft, SummarySentence
+from summarize.search import SummarySentence
 
 
 @dataclass(frozen=True)

@@ -98,8 +98,10 @@ def fake_candidate(name, text, states: dict, *, share, fluency, budget=None, ref
                   (("rouge1", 0.41), ("rouge2", 0.22), ("rougeL", 0.35), ("rougeLsum", 0.38))}
         rouge = RougeScore(scores, 1, {k: 0 for k in scores}, fake_signature("rouge", stem="yes"))
         bert = BertScore(0.8, 0.8, 0.812, 1, False, fake_signature("bertscore", model="fake"))
-    return Candidate(name, text, count_words(text), budget, coverage, flu,
-                     combined_score(share, fluency), rouge, bert)
+    scores = {"coverage": coverage, "fluency": flu, "agreement": None}
+    if references:
+        scores |= {"rouge": rouge, "bertscore": bert}
+    return Candidate(name, text, count_words(text), budget, scores, combined_score(share, fluency))
 
 
 GOOD_STATES = {"greyling": "recovered", "cofferdam": "recovered", "crack": "recovered", "thornmoor": "known",
@@ -637,6 +639,6 @@ def test_comparison_signatures_include_agreement_when_it_is_in_the_combined_scor
 
     document = read_document(SOURCE)
     agree = AgreementScore(0.3, 2, 1, 0.4, fake_signature("agreement", measure="rouge2"))
-    ranked = [replace(c, agreement=agree) for c in fake_ranked()]
+    ranked = [replace(c, scores=c.scores | {"agreement": agree}) for c in fake_ranked()]
     cmp = comparing.assemble(document, ranked, fake_keyword_set(document.text), budget=60, name="source.md")
     assert [s.name for s in cmp.signatures] == ["coverage", "fluency", "agreement", "align"]

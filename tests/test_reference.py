@@ -221,7 +221,7 @@ def test_bertscore_empty_reference_fails_before_any_model():
     with pytest.raises(ValueError, match="the reference is empty"):
         BertScoreScorer().score("The pipe was fixed.", reference=" ")
     with pytest.raises(ValueError, match="reference 0 \\(of 2\\) is empty"):
-        BertScoreScorer().score_many(["The pipe was fixed."], reference=["", "The main was repaired."])
+        BertScoreScorer().score_many(["The pipe was fixed."], references=["", "The main was repaired."])
 
 
 def test_config_accepts_a_list_and_stays_hashable():
@@ -448,7 +448,7 @@ def test_bertscore_identical_texts_score_one():
 def test_bertscore_equals_bert_score(direct_bertscore):
     reference = FIXTURE["reference"]
     summaries = list(FIXTURE["candidates"].values())
-    ours = BertScoreScorer().score_many(summaries, reference=reference)
+    ours = BertScoreScorer().score_many(summaries, references=reference)
     p, r, f = direct_bertscore().score(summaries, [reference] * len(summaries), batch_size=16)
     for n, score in enumerate(ours):
         assert close(score, p[n], r[n], f[n])
@@ -458,7 +458,7 @@ def test_bertscore_equals_bert_score(direct_bertscore):
 @pytest.mark.models
 def test_bertscore_related_above_unrelated():
     scores = BertScoreScorer().score_many(
-        [FIXTURE["candidates"]["paraphrase"], FIXTURE["candidates"]["unrelated"]], reference=FIXTURE["reference"]
+        [FIXTURE["candidates"]["paraphrase"], FIXTURE["candidates"]["unrelated"]], references=FIXTURE["reference"]
     )
     assert scores[0].f1 > scores[1].f1  # common practice: a paraphrase outscores an unrelated text
 
@@ -493,7 +493,7 @@ def test_bertscore_idf_equals_bert_score(direct_bertscore):
 
 @pytest.mark.models
 def test_bertscore_empty_summary_and_long_text():
-    scores = BertScoreScorer().score_many(["", "  ", "The ban was lifted."], reference=FIXTURE["reference"])
+    scores = BertScoreScorer().score_many(["", "  ", "The ban was lifted."], references=FIXTURE["reference"])
     assert [(s.precision, s.recall, s.f1) for s in scores[:2]] == [(0.0, 0.0, 0.0)] * 2  # decided behaviour
     assert scores[2].f1 > 0 and not scores[2].truncated
     long = " ".join([FIXTURE["reference"]] * 12)  # about 800 words: past MiniLM's 512 word pieces

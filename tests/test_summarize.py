@@ -448,13 +448,13 @@ def test_summary_json_reports_the_combined_signature_of_the_config_that_scored_i
     from scoring.coverage import CoverageScore
     from scoring.fluency import FluencyScore
 
-    custom = CombineConfig(w_agreement=0.2, w_coverage=0.6, w_fluency=0.2)
+    custom = CombineConfig((("agreement", 0.2), ("coverage", 0.6), ("fluency", 0.2)))
     evaluator = Evaluator(EvalConfig(combine=custom))
     sig = Signature("fake", ())
     coverage = [CoverageScore(s, s, s, 0.0, 0.0, 0.0, 0.0, 3, 3, (), sig) for s in (0.5, 0.3)]
     fluency = [FluencyScore(0.9, 20.0, 18.0, (), sig)] * 2
-    monkeypatch.setattr(evaluator.coverage, "score_many", lambda texts, source: coverage)
-    monkeypatch.setattr(evaluator.fluency, "score_many", lambda texts, source: fluency)
+    monkeypatch.setattr(evaluator.coverage, "score_many", lambda texts, **_: coverage)
+    monkeypatch.setattr(evaluator.fluency, "score_many", lambda texts, **_: fluency)
     ranked = evaluator.evaluate([("a", "x"), ("b", "y")], source="The board met and approved the ban.")
     signature = _scores(ranked[0])["signatures"]["combined"]
     assert signature == custom.signature().to_dict() | {"formula": custom.describe(False)}
