@@ -9,6 +9,7 @@ always runs, one that reads references runs when references are given.
 
 from __future__ import annotations
 
+import dataclasses
 import functools
 from collections.abc import Callable, Mapping, Sequence
 
@@ -108,6 +109,20 @@ class Evaluator:
 
 
 @functools.cache
-def default_evaluator() -> Evaluator:
-    """The process-wide evaluator with default settings (its caches are shared)."""
-    return Evaluator()
+def default_evaluator(config: EvalConfig | None = None) -> Evaluator:
+    """The process-wide evaluator for a configuration, default settings unless one is given (its
+    caches are shared by every caller with the same configuration)."""
+    return Evaluator(config)
+
+
+def evaluator_for(options: Mapping[str, Mapping[str, object]] | None = None) -> Evaluator:
+    """The shared evaluator for settings given by scorer and field, e.g. ``{"coverage":
+    {"keywords": 30}}`` (what the command line's options set; a field given as None keeps its
+    default). The command line and batch both build their evaluator here."""
+    configs = {}
+    for name, changes in (options or {}).items():
+        given = {field: value for field, value in changes.items() if value is not None}
+        if given:
+            configs[name] = dataclasses.replace(registry.scorer_class(name).Config(), **given)
+    config = EvalConfig(**configs)
+    return default_evaluator(None if config == EvalConfig() else config)

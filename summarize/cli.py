@@ -7,10 +7,10 @@ import sys
 
 import click
 
-from scoring.combine import CombineConfig
 from scoring.coverage import CoverageConfig
-from summarize.report import CAUTION
+from summarize import report as _report
 from summarize.recipes import DEFAULT_CANDIDATES, RECIPES
+from summarize.report import CAUTION
 
 
 class Failure(click.ClickException):
@@ -94,8 +94,6 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
 
     if sum(x is not None for x in (words, ratio, sentences)) > 1:
         raise click.UsageError("give only one of --words, --ratio and --sentences")
-    if words is None and ratio is None and sentences is None:
-        words = 150
     if out:
         files.check_writable(out)
     say = _progress(quiet)
@@ -141,25 +139,10 @@ def models_cmd(as_json, no_load):
     from scoring import models
 
     statuses = [models.model_status(key, load=not no_load) for key in models.SPECS]
-    if as_json:
-        click.echo(json.dumps([s.to_dict() for s in statuses], indent=2))
-    else:
-        for s in statuses:
-            size = f"{s.size_bytes / 1e6:.1f} MB" if s.size_bytes else "-"
-            state = "loads" if s.loads else ("found" if (no_load and s.location) else "FAILED")
-            click.echo(f"{s.key}: {s.name}  [{state}]")
-            click.echo(f"  role:     {s.role}")
-            click.echo(f"  package:  {s.package}=={s.version or 'not installed'}")
-            click.echo(f"  location: {s.location or '-'}")
-            click.echo(f"  size:     {size}")
-            click.echo(f"  sha256:   {s.sha256 or '-'}")
-            click.echo(f"  licence:  {s.licence}")
-            if s.load_seconds is not None:
-                click.echo(f"  load:     {s.load_seconds:.2f} s")
-            click.echo(f"  detail:   {s.detail}")
-    bad = [s for s in statuses if not (s.loads or (no_load and s.location))]
+    click.echo(json.dumps([s.to_dict() for s in statuses], indent=2) if as_json else models.status_text(statuses, not no_load))
+    bad = models.unavailable(statuses, not no_load)
     if bad:
-        raise Failure(f"{len(bad)} model(s) unavailable: {', '.join(s.key for s in bad)}; run `boildown setup`")
+        raise Failure(f"{len(bad)} model(s) unavailable: {', '.join(bad)}; run `boildown setup`")
 
 
 def _read_source(path: str, any_language: bool, say=None):
@@ -185,6 +168,10 @@ _reference_option = click.option(
 _budget_option = click.option(
     "--words", type=click.IntRange(min=1), default=None,
     help="Word budget: a candidate over it is flagged and ranked last.")
+
+
+def _indent(text: str, prefix: str) -> str:
+    return "\n".join(prefix + line for line in text.splitlines())
 
 
 def _progress(quiet: bool):
@@ -213,49 +200,29 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
     or a .jsonl file with one {"name": ..., "text": ...} per line.
 
     \b
-    coverage  how much of the source's key content the summary lets a language
-              model recover: key words are blanked in the source and recovered
-              with the summary in front, against a same-length filler; the key
-              words still missed are listed.
-    fluency   from the small language model's perplexity, relative to the source's.
-    agreement with 3 or more summaries: each one's mean ROUGE-2 F1 against the
-              others (the typical summary scores high; a point they all omit
-              costs none of them).
-    combined  {combined};
-              a summary over --words ranks last.
+    {legend}
 
     \b
     Example:
       boildown score report.txt draft_a.txt draft_b.txt --words 150
     """
-    import dataclasses
-
-    from scoring.evaluate import EvalConfig, Evaluator, default_evaluator
+    from scoring.evaluate import evaluator_for
     from summarize import report
-    from summarize.reading import read_candidates, read_document
-    from scoring.text import count_words
+    from summarize.reading import candidate_warnings, read_candidates, read_document
 
     if as_json and as_csv:
         raise click.UsageError("choose one of --json and --csv")
     say = _progress(quiet)
-    text = _read_source(source, any_language).text
+    document = _read_source(source, any_language)
     stdin_text = click.get_text_stream("stdin").read() if "-" in summaries else None
     candidates = read_candidates(summaries, stdin_text)
     refs = [read_document(r).text for r in references]
-    source_words = count_words(text)
-    for name, body in candidates:
-        if not body.strip():
-            say(f"warning: candidate '{name}' is empty; it scores 0")
-        elif count_words(body) > source_words:
-            say(f"warning: candidate '{name}' ({count_words(body)} words) is longer than its source ({source_words})")
-    if keywords != CoverageConfig.keywords:
-        base = EvalConfig()
-        evaluator = Evaluator(dataclasses.replace(base, coverage=dataclasses.replace(base.coverage, keywords=keywords)))
-    else:
-        evaluator = default_evaluator()
-    ranked = evaluator.evaluate(candidates, source=text, references=refs, budget=words, progress=say)
+    for warning in candidate_warnings(document.text, candidates):
+        say(warning)
+    evaluator = evaluator_for({"coverage": {"keywords": keywords}})
+    ranked = evaluator.evaluate(candidates, source=document.text, references=refs, budget=words, progress=say)
     if as_json:
-        click.echo(report.to_json(ranked, source=source, source_words=source_words, budget=words))
+        click.echo(report.to_json(ranked, source=source, source_words=document.word_count, budget=words))
     elif as_csv:
         click.echo(report.to_csv(ranked), nl=False)
     else:
@@ -268,7 +235,7 @@ def score(source, summaries, references, words, keywords, as_json, as_csv, expla
         click.echo(report.CAUTION)
 
 
-score.help = score.help.replace("{combined}", CombineConfig().describe())  # one source for the formula
+score.help = score.help.replace("{legend}", _indent(_report.legend(), "    ").lstrip())  # the tables' own words
 
 
 @main.command(name="compare")
@@ -303,7 +270,7 @@ def compare_cmd(source, candidates, references, words, html_path, as_json, summa
     """
     from summarize import compare as comparing
     from summarize import report_html
-    from summarize.reading import read_candidates, read_document
+    from summarize.reading import candidate_warnings, read_candidates, read_document
 
     if html_path:
         report_html.check_target(html_path)  # fail before minutes of scoring, not after
@@ -316,17 +283,9 @@ def compare_cmd(source, candidates, references, words, html_path, as_json, summa
     refs = [read_document(r).text for r in references]
     provenance = None
     if summaries:
-        from summarize.pipeline import summarize as run
-        from scoring.text import split_sentences
-
-        own = run(document, words or 150, candidates=max(summaries, 1), progress=say)
-        provenance = {}
-        for draft, _ in own.candidates[:summaries]:
-            name = f"boildown:{draft.recipe}"
-            pairs.append((name, draft.text))
-            if len(split_sentences(draft.text)) == len(draft.sentences):
-                provenance[name] = [[s.source] for s in draft.sentences]
-    for warning in comparing.candidate_warnings(document.text, pairs):
+        own, provenance = comparing.own_candidates(document, summaries, words, progress=say)
+        pairs += own
+    for warning in candidate_warnings(document.text, pairs):
         say(warning)
     result = comparing.compare(
         document, pairs, references=refs, budget=words, progress=say, provenance=provenance, name=source

@@ -21,9 +21,9 @@ from dataclasses import dataclass, field
 
 from scoring.base import Signature
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
+from scoring.text import split_sentences
 from summarize import align as aligning
 from summarize.reading import Document, parse_text
-from scoring.text import count_words, split_sentences
 from summarize.segment import Sentence, segment
 
 STATES = ("recovered", "known", "missed")
@@ -216,6 +216,23 @@ def assemble(
     )
 
 
+def own_candidates(document: Document, n: int, words: int | None,
+                   progress: Callable[[str], None] | None = None) -> tuple[list[tuple[str, str]], dict]:
+    """boildown's own ``n`` candidate summaries of ``document`` (at ``words``, 150 by default)
+    as (name, text) pairs named "boildown:<recipe>", with their provenance (per sentence, the
+    source sentence it came from) where each summary sentence is one sentence of the split."""
+    from summarize.pipeline import DEFAULT_WORDS, summarize
+
+    own = summarize(document, words or DEFAULT_WORDS, candidates=max(n, 1), progress=progress)
+    pairs, provenance = [], {}
+    for draft, _ in own.candidates[:n]:
+        name = f"boildown:{draft.recipe}"
+        pairs.append((name, draft.text))
+        if len(split_sentences(draft.text)) == len(draft.sentences):
+            provenance[name] = [[s.source] for s in draft.sentences]
+    return pairs, provenance
+
+
 def sentence_id(index: int) -> str:
     """The HTML page's anchor for a source sentence: numbered from 1 for readers ("s-1" is index 0)."""
     return f"s-{index + 1}"
@@ -237,19 +254,6 @@ def distinct_names(candidates: Sequence[tuple[str, str]]) -> list[tuple[str, str
         out.append((unique, text))
     if not out:
         raise ValueError("there are no candidate summaries to compare; give at least one")
-    return out
-
-
-def candidate_warnings(source_text: str, candidates: Sequence[tuple[str, str]]) -> list[str]:
-    """Warnings worth printing before scoring: empty candidates, candidates longer than the source."""
-    source_words = count_words(source_text)
-    out = []
-    for name, body in candidates:
-        if not body.strip():
-            out.append(f"warning: candidate '{name}' is empty; it scores 0")
-        elif count_words(body) > source_words:
-            words = count_words(body)
-            out.append(f"warning: candidate '{name}' ({words} words) is longer than its source ({source_words})")
     return out
 
 

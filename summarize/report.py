@@ -9,42 +9,105 @@ import csv
 import io
 import json
 
+from scoring import registry
+from scoring.base import Column
+from scoring.combine import CombineConfig
+
 CAUTION = (
     "Scores are estimates. A summary can mislead by what it leaves out: legal, medical, "
     "financial or safety decisions need the source itself and the judgement of a qualified person."
 )
 
-COLUMNS = ("rank", "name", "words", "budget", "coverage", "fluency", "agreement", "combined")
-REFERENCE_COLUMNS = ("rouge1", "rouge2", "rougeLsum", "bertscore")
+IDENTITY = ("rank", "name", "words", "budget", "over_budget")
+COMBINED = Column("combined", lambda c: c.combined, "num3", "combined", "Combined")
+
+
+def columns(candidates) -> list[Column]:
+    """The score columns of these candidates' rows, in order: each scorer's columns (registry
+    order) for the scorers that ran, the combined score after the scorers that read the source
+    or the pool, then those that read references. The one list the CSV, the terminal table and
+    the page are rendered from."""
+    ran = [name for name in registry.names() if any(name in c.scores for c in candidates)]
+    before = [name for name in ran if registry.scorer_class(name).needs != "references"]
+    after = [name for name in ran if name not in before]
+    out = [(name, col) for name in before for col in registry.scorer_class(name).columns]
+    out.append((None, COMBINED))
+    out += [(name, col) for name in after for col in registry.scorer_class(name).columns]
+    return [_Bound(name, col) for name, col in out]
+
+
+class _Bound:
+    """A column together with the scorer whose result it reads (None: the candidate itself)."""
+
+    def __init__(self, scorer: str | None, column: Column):
+        self.scorer, self.column = scorer, column
+        self.key, self.kind, self.header, self.title = column.key, column.kind, column.header, column.title
+
+    def value(self, candidate):
+        """The raw value, or None where the scorer had nothing to say for this candidate."""
+        if self.scorer is None:
+            return self.column.get(candidate)
+        result = candidate.scores.get(self.scorer)
+        return self.column.get(result) if result is not None else None
+
+    def shown(self, candidates) -> bool:
+        """Whether a table shows it: it has a heading and some candidate has a value."""
+        return bool(self.header) and any(self.value(c) is not None for c in candidates)
+
+
+def cell(kind: str, value) -> str:
+    """A value as the tables and the page print it."""
+    if value is None:
+        return "\u2013"
+    if kind == "pct":
+        return f"{100 * value:5.1f}%".strip()
+    if kind in ("num2", "num3", "num4"):
+        return f"{value:.{kind[-1]}f}"
+    if kind == "words":
+        return ", ".join(value) if value else "-"
+    return str(value)
 
 
 def rows(candidates) -> list[dict]:
-    """One flat record per candidate (the CSV's rows and the table's cells)."""
+    """One flat record per candidate (the CSV's rows): identity, then every score column."""
+    cols = columns(candidates)
     out = []
     for c in candidates:
-        row = {
-            "rank": c.rank,
-            "name": c.name,
-            "words": c.words,
-            "budget": c.budget if c.budget is not None else "",
-            "over_budget": c.over_budget,
-            "coverage": round(c.coverage.share, 4),
-            "coverage_logprob_gain": c.coverage.logprob_gain,
-            "coverage_accuracy_gain": c.coverage.accuracy_gain,
-            "fluency": round(c.fluency.value, 4),
-            "perplexity": c.fluency.perplexity,
-            "agreement": round(c.agreement.value, 4) if c.agreement is not None else "",
-            "combined": round(c.combined, 4),
-            "recovered": " ".join(c.coverage.recovered),
-            "missed": " ".join(c.coverage.missed),
-        }
-        if c.rouge is not None:
-            for key in ("rouge1", "rouge2", "rougeL", "rougeLsum"):
-                row[key] = round(c.rouge.f1(key), 4)
-        if c.bertscore is not None:
-            row["bertscore"] = round(c.bertscore.f1, 4)
+        row = {"rank": c.rank, "name": c.name, "words": c.words, "budget": c.budget if c.budget is not None else "",
+               "over_budget": c.over_budget}
+        for col in cols:
+            value = col.value(c)
+            if value is None:
+                row[col.key] = ""
+            elif col.kind == "words":
+                row[col.key] = " ".join(value)
+            else:
+                row[col.key] = round(value, 4) if isinstance(value, float) else value
         out.append(row)
     return out
+
+
+def describe(candidates, combine=None) -> list[tuple[str, str]]:
+    """(label, what it means) for every score the candidates carry, then the combined score: the
+    one wording the terminal legend, the help and the page use."""
+    present = [name for name in registry.names() if any(c.scores.get(name) is not None for c in candidates)]
+    out = [(registry.scorer_class(n).label, registry.scorer_class(n).description) for n in present]
+    formula = (combine or (candidates[0].combine if candidates else CombineConfig())).describe("agreement" in present)
+    out.append(("Combined", formula))
+    return out
+
+
+def legend(width: int = 76) -> str:
+    """The scores a ranking uses, for ``--help``: each scorer that reads the source or the pool,
+    then the combined score, one wrapped paragraph each (the same words as the tables)."""
+    import textwrap
+
+    items = [(n, registry.scorer_class(n).description) for n in registry.names()
+             if registry.scorer_class(n).needs != "references"]
+    items.append(("combined", CombineConfig().describe() + "; a summary over --words ranks last"))
+    pad = max(len(n) for n, _ in items) + 2
+    return "\n".join(textwrap.fill(text, width, initial_indent=name.ljust(pad), subsequent_indent=" " * pad)
+                     for name, text in items)
 
 
 def to_json(candidates, **context) -> str:
@@ -57,47 +120,28 @@ def to_json(candidates, **context) -> str:
 def to_csv(candidates) -> str:
     records = rows(candidates)
     buffer = io.StringIO()
-    fields = list(records[0]) if records else list(COLUMNS)
+    fields = list(records[0]) if records else list(IDENTITY)
     writer = csv.DictWriter(buffer, fieldnames=fields, lineterminator="\n")
     writer.writeheader()
     writer.writerows(records)
     return buffer.getvalue()
 
 
-def _pct(value: float) -> str:
-    return f"{100 * value:5.1f}%"
-
-
 def table(candidates, combine=None) -> str:
     """The ranked table for a terminal, with a legend (``combine``: the CombineConfig used)."""
-    from scoring.combine import CombineConfig
-
-    records = rows(candidates)
-    has_ref = any("rouge1" in r for r in records)
-    has_agreement = any(c.agreement is not None for c in candidates)
-    header = ["#", "candidate", "words", "coverage", "fluency"] + (["agreement"] if has_agreement else []) + ["combined"]
-    if has_ref:
-        header += ["R-1", "R-2", "R-Lsum", "BERTSc"]
+    cols = [col for col in columns(candidates) if col.shown(candidates)]
+    header = ["#", "candidate", "words"] + [col.header for col in cols]
     lines = []
-    for r, c in zip(records, candidates):
-        words = f"{r['words']}/{r['budget']}" if r["budget"] != "" else str(r["words"])
+    for c in candidates:
+        words = f"{c.words}/{c.budget}" if c.budget is not None else str(c.words)
         if c.over_budget:
             words += " OVER"
-        cells = [str(r["rank"]), _short(r["name"], 28), words, _pct(r["coverage"]), f"{r['fluency']:.2f}"]
-        cells += [f"{r['agreement']:.3f}"] if has_agreement else []
-        cells += [f"{r['combined']:.3f}"]
-        if has_ref:
-            cells += [f"{r.get(k, 0):.3f}" for k in ("rouge1", "rouge2", "rougeLsum", "bertscore")]
-        lines.append(cells)
+        lines.append([str(c.rank), _short(c.name, 28), words] + [cell(col.kind, col.value(c)) for col in cols])
     widths = [max(len(h), *(len(line[i]) for line in lines)) if lines else len(h) for i, h in enumerate(header)]
     fmt = lambda cells: "  ".join(c.rjust(w) if i != 1 else c.ljust(w) for i, (c, w) in enumerate(zip(cells, widths)))
     out = [fmt(header), fmt(["-" * w for w in widths])] + [fmt(line) for line in lines]
     out.append("")
-    out.append("coverage: share of the model's uncertainty about the source's blanked key words that the")
-    out.append("summary removes; fluency: 1 = reads as easily as the source;")
-    if has_agreement:
-        out.append("agreement: mean ROUGE-2 F1 against the other candidates (the typical candidate scores high);")
-    out.append(f"combined: {(combine or CombineConfig()).describe(has_agreement)}.")
+    out += [f"{label.lower()}: {meaning}." for label, meaning in describe(candidates, combine)]
     return "\n".join(out)
 
 

@@ -21,6 +21,7 @@ from pathlib import Path
 from scoring.base import project_version
 from summarize.files import check_writable, write_atomic
 from summarize.compare import UNSCORED, Comparison, sentence_id
+from summarize import report
 from summarize.report import CAUTION
 
 # One palette, the only place colours are set; the CSS reads these as custom properties.
@@ -157,14 +158,6 @@ def check_target(path) -> None:
 # --------------------------------------------------------------------------- sections
 
 
-def _num(value: float, places: int) -> str:
-    return f"{value:.{places}f}"
-
-
-def _pct(value: float) -> str:
-    return f"{100 * value:.1f}%"
-
-
 def _words_cell(c) -> str:
     if c.budget is None:
         return f"<td class=\"n\">{c.words:,}</td>"
@@ -175,49 +168,25 @@ def _words_cell(c) -> str:
 
 
 def _ranking(cmp: Comparison) -> str:
-    has_rouge = any(c.rouge is not None for c in cmp.candidates)
-    has_bert = any(c.bertscore is not None for c in cmp.candidates)
-    has_agreement = any(c.agreement is not None for c in cmp.candidates)
-    head = ["Rank", "Candidate", "Words" + (" / budget" if cmp.budget else ""), "Coverage", "Fluency"]
-    head += (["Agreement"] if has_agreement else []) + ["Combined"]
-    if has_rouge:
-        head += ["ROUGE-1 F1", "ROUGE-2 F1", "ROUGE-Lsum F1"]
-    if has_bert:
-        head += ["BERTScore F1"]
+    """The ranked table: the same columns and formats as the terminal table and the CSV."""
+    cols = [col for col in report.columns(cmp.candidates) if col.title and col.shown(cmp.candidates)]
+    head = ["Rank", "Candidate", "Words" + (" / budget" if cmp.budget else "")] + [col.title for col in cols]
     rows = []
     for c in cmp.candidates:
         cells = [
             f'<td class="n">{c.rank}</td>',
             f'<th scope="row"><a href="#c-{c.rank}">{_breakable(c.name)}</a></th>',
             _words_cell(c),
-            f'<td class="n">{_pct(c.coverage.share)}</td>',
-            f'<td class="n">{_num(c.fluency.value, 2)}</td>',
         ]
-        if has_agreement:
-            cells.append(f'<td class="n">{_num(c.agreement.value, 3) if c.agreement else "–"}</td>')
-        cells.append(f'<td class="n strong">{_num(c.combined, 3)}</td>')
-        if has_rouge:
-            for kind in ("rouge1", "rouge2", "rougeLsum"):
-                cells.append(f'<td class="n">{_num(c.rouge.f1(kind), 3) if c.rouge else "–"}</td>')
-        if has_bert:
-            cells.append(f'<td class="n">{_num(c.bertscore.f1, 3) if c.bertscore else "–"}</td>')
+        cells += [f'<td class="n{" strong" if col.key == "combined" else ""}">{esc(report.cell(col.kind, col.value(c)))}</td>'
+                  for col in cols]
         rows.append("<tr>" + "".join(cells) + "</tr>")
     numeric = ' class="n"'
     ths = "".join(f'<th scope="col"{numeric if i != 1 else ""}>{_wrap_words(h)}</th>' for i, h in enumerate(head))
-    combined = cmp.settings.get("combined")
     order = " within budget first, then" if cmp.budget else ""
-    notes = [
-        "<strong>Coverage</strong>: the share of the model's uncertainty about the source's blanked key words that the "
-        "summary removes (how much key content it carries).",
-        "<strong>Fluency</strong>: 1 means the summary reads as easily as its source; lower means harder going.",
-        *(["<strong>Agreement</strong>: the candidate's mean ROUGE-2 F1 against the other candidates; the typical "
-            "candidate scores high, and a point every candidate leaves out costs none of them."] if has_agreement else []),
-        "<strong>Combined</strong>: " + (esc(combined) if combined else "coverage and fluency weighted together") + ".",
-    ]
+    notes = [f"<strong>{esc(label)}</strong>: {esc(meaning)}." for label, meaning in report.describe(cmp.candidates)]
     if cmp.budget:
         notes.append("A candidate over the word budget ranks after every candidate within it.")
-    if has_rouge or has_bert:
-        notes.append("ROUGE and BERTScore compare each candidate with the reference summaries given.")
     return (
         '<div class="scroll" role="region" aria-labelledby="ranking-cap" tabindex="0">'
         '<table class="ranking">'
@@ -269,7 +238,8 @@ def _chart(cmp: Comparison) -> str:
 
 def _shown(c) -> dict[str, str]:
     """The three headline scores as the page prints them (the table's formats)."""
-    return {"coverage": _pct(c.coverage.share), "fluency": _num(c.fluency.value, 2), "combined": _num(c.combined, 3)}
+    return {"coverage": report.cell("pct", c.coverage.share), "fluency": report.cell("num2", c.fluency.value),
+            "combined": report.cell("num3", c.combined)}
 
 
 def _state_cell(state: str) -> str:
@@ -368,7 +338,6 @@ def _candidates(cmp: Comparison) -> str:
 
 def _source(cmp: Comparison) -> str:
     doc = cmp.document
-    text = doc.text
     gap_words = set(cmp.missed_by_all)
     # key-word spans are character offsets in doc.text; blocks sit in it joined by "\n\n"
     starts, pos = [], 0
@@ -532,144 +501,10 @@ def _short(text: str, width: int) -> str:
 
 
 def stylesheet() -> str:
-    """The page's CSS: custom properties from PALETTE, then our rules (no external resources)."""
+    """The page's CSS: custom properties from PALETTE, then our rules (``page.css``, shipped with
+    the package; no external resources)."""
+    from importlib.resources import files
+
     props = "\n".join(f"  --{name}: {value};" for name, value in PALETTE.items())
-    return ":root {\n" + props + "\n}\n" + _RULES
+    return ":root {\n" + props + "\n}\n" + files("summarize").joinpath("page.css").read_text(encoding="utf-8")
 
-
-_RULES = """
-* { box-sizing: border-box; }
-html { font-size: 100%; }
-body { margin: 0; background: var(--paper); color: var(--ink);
-  font: 1rem/1.55 system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", "DejaVu Sans", Arial, sans-serif; }
-.wrap { max-width: 76rem; margin: 0 auto; padding: 0 1.5rem; }
-a { color: var(--accent); text-underline-offset: 0.15em; }
-a:focus-visible, main:focus-visible, .scroll:focus-visible, .skip:focus {
-  outline: 3px solid var(--focus); outline-offset: 2px; border-radius: 2px; }
-a:focus:not(:focus-visible) { outline: none; }
-main:focus { outline: none; }
-.skip { position: absolute; left: 0.5rem; top: -4rem; background: var(--panel); color: var(--accent);
-  padding: 0.5rem 0.9rem; border: 1px solid var(--rule); z-index: 10; }
-.skip:focus { top: 0.5rem; }
-.top { background: var(--panel); border-bottom: 1px solid var(--rule); padding: 1.4rem 0 0.4rem; }
-.kicker { margin: 0; color: var(--muted); font-size: 0.85rem; letter-spacing: 0.06em; text-transform: uppercase; }
-h1 { margin: 0.2rem 0 0.3rem; font-size: 1.7rem; line-height: 1.25; font-weight: 650; }
-h1 .name { color: var(--accent); overflow-wrap: anywhere; }
-.facts { margin: 0 0 0.6rem; color: var(--muted); }
-nav ul { list-style: none; margin: 0; padding: 0; display: flex; flex-wrap: wrap; gap: 0.2rem 1.3rem; }
-nav a { display: inline-block; padding: 0.3rem 0; }
-main { padding-top: 1.2rem; padding-bottom: 1rem; }
-.caution { background: var(--caution); border-left: 4px solid var(--focus); padding: 0.7rem 1rem; margin: 0 0 1.2rem; }
-section { background: var(--panel); border: 1px solid var(--rule); border-radius: 6px; padding: 1.1rem 1.4rem 1.3rem;
-  margin: 0 0 1.3rem; }
-h2 { margin: 0 0 0.7rem; font-size: 1.3rem; line-height: 1.3; font-weight: 650; padding-bottom: 0.35rem;
-  border-bottom: 2px solid var(--accent); display: inline-block; }
-h3 { font-size: 1.08rem; margin: 1.2rem 0 0.4rem; }
-p { margin: 0.5rem 0; }
-.scroll { overflow-x: auto; }
-table { border-collapse: collapse; font-variant-numeric: tabular-nums; }
-caption { text-align: left; font-weight: 600; padding: 0 0 0.4rem; color: var(--muted); }
-th, td { padding: 0.4rem 0.7rem; border-bottom: 1px solid var(--rule); text-align: left; vertical-align: top; }
-thead th { border-bottom: 2px solid var(--ink); font-weight: 600; white-space: nowrap; }
-tbody th { font-weight: 500; }
-.n { text-align: right; white-space: nowrap; }
-.strong { font-weight: 700; }
-.muted { color: var(--muted); }
-.ranking { width: 100%; }
-.ranking th, .ranking td { padding: 0.45rem 0.5rem; }
-.ranking thead th { white-space: normal; vertical-align: bottom; font-size: 0.92rem; }
-.ranking tbody th { overflow-wrap: anywhere; min-width: 10rem; }
-.nw { white-space: nowrap; }
-.ranking tbody tr:hover { background: var(--paper); }
-.over { color: var(--missed-ink); }
-.tag { font-size: 0.82rem; font-weight: 600; color: var(--missed-ink); }
-.notes { color: var(--muted); font-size: 0.92rem; margin: 0.8rem 0 0; padding-left: 1.2rem; }
-.notes li { margin: 0.15rem 0; }
-.chart { margin: 0; }
-.chart svg { width: 100%; max-width: 760px; height: auto; display: block; }
-.chart text { font-family: inherit; fill: var(--ink); }
-.chart .cand { font-size: 14px; font-weight: 650; }
-.chart .metric { font-size: 12.5px; fill: var(--muted); }
-.chart .value { font-size: 12.5px; font-weight: 600; }
-.chart .tick { font-size: 11.5px; fill: var(--muted); }
-.chart .grid { stroke: var(--rule); stroke-width: 1; }
-.chart .bar.coverage { fill: var(--bar-coverage); }
-.chart .bar.fluency { fill: var(--bar-fluency); }
-.chart .bar.combined { fill: var(--bar-combined); }
-figcaption { color: var(--muted); font-size: 0.92rem; margin-top: 0.4rem; }
-.legend { list-style: none; padding: 0; margin: 0.7rem 0 1.1rem; display: grid; gap: 0.5rem 1.6rem;
-  grid-template-columns: repeat(auto-fit, minmax(22rem, 1fr)); font-size: 0.92rem; max-width: 60rem; }
-.legend li { display: grid; grid-template-columns: 1.8rem 1fr; gap: 0.6rem; align-items: start; }
-.swatch { display: block; text-align: center; border-radius: 3px; line-height: 1.5; }
-.grid th, .grid td { padding: 0.22rem 0.6rem; }
-.grid thead th { vertical-align: bottom; white-space: normal; }
-.grid .cand-col { width: 8rem; min-width: 5.5rem; max-width: 9rem; text-align: center; font-size: 0.85rem;
-  vertical-align: top; }
-.grid .cand-col .rk { display: block; font-size: 0.95rem; }
-.grid .cand-col .nm { display: block; font-weight: 400; color: var(--muted); overflow-wrap: anywhere; }
-.grid tbody th { white-space: nowrap; }
-.grid tbody tr:nth-child(5n) > * { border-bottom-color: var(--muted); }
-.st { text-align: center; font-weight: 700; font-size: 1.05rem; }
-.st.recovered { background: var(--recovered-bg); color: var(--recovered-ink); }
-.st.known { background: var(--known-bg); color: var(--known-ink); }
-.st.missed { background: var(--missed-bg); color: var(--missed-ink); }
-.st.unscored { background: var(--unscored-bg); color: var(--unscored-ink); }
-.grid td.st { border-left: 2px solid var(--panel); }
-.gapword { color: var(--missed-ink); text-decoration: underline dashed; text-underline-offset: 0.2em; }
-.grid tfoot th, .grid tfoot td { font-size: 0.92rem; }
-.grid .count { text-align: center; font-variant-numeric: tabular-nums; }
-.grid tfoot tr:first-child > * { border-top: 2px solid var(--ink); }
-.grid .every { max-width: 7rem; white-space: normal; font-size: 0.85rem; text-align: center; vertical-align: top; }
-.allmiss { color: var(--missed-ink); font-weight: 600; text-align: center; }
-.allmiss-list { max-width: 60rem; }
-.allmiss-list strong { color: var(--missed-ink); }
-.vh { position: absolute; width: 1px; height: 1px; overflow: hidden; clip: rect(0 0 0 0); clip-path: inset(50%);
-  white-space: nowrap; }
-.cand { border-top: 1px solid var(--rule); padding-top: 0.2rem; }
-.cand:first-of-type { border-top: none; }
-.cand h3 .rk { color: var(--muted); font-weight: 600; margin-right: 0.2rem; }
-.cand .meta { color: var(--muted); font-size: 0.92rem; margin-top: 0; }
-.sents { margin: 0.4rem 0 0.6rem; padding-left: 1.8rem; max-width: 48rem; }
-.sents li { margin: 0.3rem 0; }
-.from { color: var(--muted); font-size: 0.85rem; white-space: nowrap; margin-left: 0.2rem; }
-.from a { padding: 0 0.1rem; }
-.flag { font-size: 0.8rem; font-weight: 600; color: var(--missed-ink); border: 1px solid var(--missed-ink);
-  border-radius: 3px; padding: 0 0.3rem; white-space: nowrap; }
-.note { color: var(--muted); font-size: 0.92rem; }
-.doc { max-width: 46rem; }
-.doc h3, .doc h4, .doc h5, .doc h6 { margin: 1.3rem 0 0.4rem; }
-.doc ul { padding-left: 1.4rem; }
-.doc li { margin: 0.2rem 0; }
-mark.kw { background: var(--mark); color: var(--ink); padding: 0 0.08em; border-radius: 2px; }
-mark.kw.gap { background: var(--gap); text-decoration: underline dashed var(--missed-ink);
-  text-underline-offset: 0.2em; }
-.sn { color: var(--muted); font-size: 0.68rem; margin-right: 0.15rem; font-variant-numeric: tabular-nums; }
-.sent { scroll-margin-top: 2rem; }
-.sent:target { background: var(--target); outline: 2px solid var(--focus); outline-offset: 1px; }
-.settings { display: grid; grid-template-columns: max-content 1fr; gap: 0.25rem 1.2rem; margin: 0; }
-.settings dt { color: var(--muted); }
-.settings dd { margin: 0; }
-.sigs { padding-left: 1.2rem; }
-.sigs code { font-size: 0.85rem; overflow-wrap: anywhere; }
-footer { color: var(--muted); font-size: 0.88rem; padding-bottom: 2rem; }
-@media (max-width: 40rem) {
-  .wrap { padding: 0 0.8rem; }
-  section { padding: 0.9rem 0.8rem; }
-}
-@media print {
-  body { background: none; color: #000; font-size: 10.5pt; }
-  .skip, nav { display: none; }
-  .top, section { background: none; border: none; padding: 0; }
-  section { margin-bottom: 1.2rem; }
-  a { color: inherit; text-decoration: none; }
-  a[href]::after { content: none; }
-  .caution { background: none; border: 1px solid #000; }
-  .scroll { overflow: visible; }
-  thead { display: table-header-group; }
-  tr, li, .legend li, .cand h3, .sent { break-inside: avoid; page-break-inside: avoid; }
-  h2, h3 { break-after: avoid; page-break-after: avoid; }
-  .st, mark.kw, .sent:target { background: none; }
-  mark.kw { text-decoration: underline; }
-  .chart svg { max-width: 100%; }
-}
-"""

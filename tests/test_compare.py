@@ -26,7 +26,7 @@ from scoring.keywords import Keyword, KeywordConfig, KeywordSet, text_hash
 from scoring.reference import BertScore, RougeScore
 from summarize import align as aligning
 from summarize import compare as comparing
-from summarize import report_html
+from summarize import reading, report_html
 from summarize.cli import main
 from summarize.reading import parse_text, read_document
 from scoring.text import count_words, split_sentences
@@ -294,7 +294,7 @@ def test_compare_names_duplicates_apart_and_refuses_bad_input(fake_keywords):
 
 
 def test_candidate_warnings():
-    assert comparing.candidate_warnings("one two three", [("e", " "), ("long", "a b c d"), ("ok", "a b")]) == [
+    assert reading.candidate_warnings("one two three", [("e", " "), ("long", "a b c d"), ("ok", "a b")]) == [
         "warning: candidate 'e' is empty; it scores 0",
         "warning: candidate 'long' (4 words) is longer than its source (3)",
     ]

@@ -21,4 +21,4 @@ from scoring.models.dtype import DTYPES, fast_dtype, pick_dtype, resolve_dtype  
 from scoring.models.loading import (  # noqa: F401
     LoadedModel, causal_in_dtype, load_causal, load_encoder, load_spacy, set_threads,
 )
-from scoring.models.status import ModelStatus, model_status  # noqa: F401
+from scoring.models.status import ModelStatus, model_status, status_text, unavailable  # noqa: F401

@@ -73,3 +73,22 @@ def model_status(key: str, load: bool = True) -> ModelStatus:
         spec.licence, loads, detail, seconds,
     )
 
+
+def status_text(statuses: list[ModelStatus], loaded: bool = True) -> str:
+    """What `boildown models` prints: one block per model (``loaded``: a load was attempted)."""
+    out = []
+    for s in statuses:
+        size = f"{s.size_bytes / 1e6:.1f} MB" if s.size_bytes else "-"
+        state = "loads" if s.loads else ("found" if (not loaded and s.location) else "FAILED")
+        out += [f"{s.key}: {s.name}  [{state}]", f"  role:     {s.role}",
+                f"  package:  {s.package}=={s.version or 'not installed'}", f"  location: {s.location or '-'}",
+                f"  size:     {size}", f"  sha256:   {s.sha256 or '-'}", f"  licence:  {s.licence}"]
+        if s.load_seconds is not None:
+            out.append(f"  load:     {s.load_seconds:.2f} s")
+        out.append(f"  detail:   {s.detail}")
+    return "\n".join(out)
+
+
+def unavailable(statuses: list[ModelStatus], loaded: bool = True) -> list[str]:
+    """The models that are missing or (when a load was attempted) do not load."""
+    return [s.key for s in statuses if not (s.loads or (not loaded and s.location))]

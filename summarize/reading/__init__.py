@@ -21,7 +21,7 @@ The package, one concern a module:
 
 from __future__ import annotations
 
-from summarize.reading.candidates import read_candidates
+from summarize.reading.candidates import candidate_warnings, read_candidates
 from summarize.reading.decode import decode_bytes
 from summarize.reading.document import BLOCK_KINDS, Block, Document, ReadError, format_size
 from summarize.reading.entry import parse_text, read, read_document
@@ -35,6 +35,7 @@ __all__ = [
     "ASCII_SHARE_MIN",
     "BLOCK_KINDS",
     "Block",
+    "candidate_warnings",
     "Document",
     "ENGLISH_THRESHOLD",
     "EXTENSIONS",

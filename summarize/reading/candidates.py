@@ -1,12 +1,14 @@
 """Candidate summaries to score: files of any readable format, "-" for standard input, or
-JSON-lines files with one candidate a line.
+JSON-lines files with one candidate a line; and the warnings worth printing before scoring them.
 """
 
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 from pathlib import Path
 
+from scoring.text import count_words
 from summarize.reading.document import ReadError
 from summarize.reading.entry import parse_text, read_document
 
@@ -49,4 +51,17 @@ def read_candidates(specs, stdin_text: str | None = None) -> list[tuple[str, str
                 out.append((Path(spec).name, ""))
             else:
                 raise
+    return out
+
+
+def candidate_warnings(source_text: str, candidates: Sequence[tuple[str, str]]) -> list[str]:
+    """Warnings worth printing before scoring: empty candidates, candidates longer than the source."""
+    source_words = count_words(source_text)
+    out = []
+    for name, body in candidates:
+        if not body.strip():
+            out.append(f"warning: candidate '{name}' is empty; it scores 0")
+        elif count_words(body) > source_words:
+            words = count_words(body)
+            out.append(f"warning: candidate '{name}' ({words} words) is longer than its source ({source_words})")
     return out

@@ -13,6 +13,7 @@ from __future__ import annotations
 import functools
 from dataclasses import dataclass
 
+from scoring.text import count_words
 from summarize.reading.formats import FORMATS
 
 BLOCK_KINDS = ("heading", "paragraph", "item")
@@ -95,7 +96,7 @@ class Document:
     @functools.cached_property
     def word_count(self) -> int:
         """Whitespace-separated tokens, as ``wc -w`` counts them."""
-        return len(self.text.split())
+        return count_words(self.text)
 
     def sections(self) -> list[tuple[Block | None, list[Block]]]:
         """Split at every heading: ``(heading, blocks under it)`` pairs in order.
