@@ -23,7 +23,7 @@ from __future__ import annotations
 import functools
 from dataclasses import dataclass, field
 
-from scoring.base import Column, Signature, result_dict
+from scoring.base import BaseScorer, Column, Result, Signature
 
 
 @dataclass(frozen=True)
@@ -41,35 +41,21 @@ class AgreementConfig:
 
 
 @dataclass(frozen=True)
-class AgreementScore:
+class AgreementScore(Result):
     value: float  # mean F1 against the other candidates, in [0, 1]
     others: int  # how many other candidates it was compared with
     closest: int  # index (in the pool) of the candidate it agrees with most
     closest_value: float
     signature: Signature = field(compare=False)
 
-    @property
-    def unit(self) -> float:
-        """The value in [0, 1] the combined score uses."""
-        return self.value
-
-    def to_dict(self) -> dict:
-        return result_dict(self)
 
 
-class AgreementScorer:
-    """Each candidate's mean ROUGE-N F1 against the other candidates of the pool."""
+class AgreementScorer(BaseScorer, name="agreement", label="Agreement", needs="pool", config=AgreementConfig):
+    """With 3 or more candidates, each one's mean ROUGE-2 F1 against the other candidates of
+    the same source: the typical candidate scores high, and a point every candidate leaves out
+    costs none of them."""
 
-    name = "agreement"
-    label = "Agreement"
-    description = ("with 3 or more candidates, each one's mean ROUGE-2 F1 against the others: the typical "
-                   "candidate scores high, and a point every candidate leaves out costs none of them")
-    needs = "pool"
-    Config = AgreementConfig
     columns = (Column("agreement", lambda r: r.value, "num3", "agreement", "Agreement"),)
-
-    def __init__(self, config: AgreementConfig = AgreementConfig()):
-        self.config = config
 
     @functools.cached_property
     def _rouge(self):

@@ -131,3 +131,61 @@ def result_dict(result, **derived) -> dict:
     out.update(derived)
     out["signature"] = result.signature.to_dict()
     return out
+
+
+class Result:
+    """The common part of every result dataclass: ``unit`` (its value in [0, 1], what a combined
+    score weighs; ``value`` unless a result says otherwise) and ``to_dict``."""
+
+    @property
+    def unit(self) -> float:
+        return self.value
+
+    def to_dict(self) -> dict:
+        return result_dict(self)
+
+
+class BaseScorer:
+    """The common part of every scorer: its registry facts, declared on the class line, and its
+    config (the default one unless given). The class docstring is the ``description`` users read
+    (what the number means: the help, the tables' legends and the page print it)::
+
+        class MyScorer(BaseScorer, name="mine", label="Mine", needs="source", config=MyConfig):
+            '''What the number means, in one or two plain sentences.'''
+
+            columns = (Column("mine", lambda r: r.value, "num3", "mine", "Mine"),)
+    """
+
+    name: ClassVar[str]
+    label: ClassVar[str]
+    needs: ClassVar[str]
+    Config: ClassVar[type]
+    description: ClassVar[str] = ""
+    columns: ClassVar[tuple[Column, ...]] = ()
+
+    def __init_subclass__(cls, *, name: str, label: str, needs: str, config: type, **kwargs):
+        super().__init_subclass__(**kwargs)
+        if needs not in NEEDS:
+            raise ValueError(f"scorer {name!r}: needs must be one of {NEEDS}, got {needs!r}")
+        if not getattr(config, "__dataclass_params__", None) or not config.__dataclass_params__.frozen:
+            raise ValueError(f"scorer {name!r}: its config must be a frozen dataclass")
+        cls.name, cls.label, cls.needs, cls.Config = name, label, needs, config
+        cls.description = " ".join((cls.__doc__ or "").split())
+        if not cls.description:
+            raise ValueError(f"scorer {name!r}: its docstring says what its number means (help and reports print it)")
+
+    def __init__(self, config=None):
+        self.config = config if config is not None else self.Config()
+
+
+def check_choice(field: str, value, choices) -> None:
+    """A config value must be one of ``choices`` (a clear ValueError otherwise)."""
+    if value not in choices:
+        raise ValueError(f"{field} must be one of {', '.join(map(str, choices))}, got {value!r}")
+
+
+def check_positive(config, *names: str) -> None:
+    """Whole-number settings that must be at least 1."""
+    for name in names:
+        if getattr(config, name) < 1:
+            raise ValueError(f"{name} must be at least 1, got {getattr(config, name)}")

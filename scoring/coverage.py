@@ -33,8 +33,9 @@ import functools
 import math
 from dataclasses import dataclass, field
 
-from scoring.base import Column, Signature, result_dict
+from scoring.base import BaseScorer, Column, Result, Signature, check_choice, check_positive, result_dict
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
+from scoring.lm import ModelSettings
 
 HEADLINES = ("logprob", "accuracy", "prob")
 MODES = ("middle", "first", "every", "dense")
@@ -62,8 +63,8 @@ HEAD_GROUP = 16
 
 
 @dataclass(frozen=True)
-class CoverageConfig:
-    """Settings of the coverage scorer (CLI defaults and help read these)."""
+class CoverageConfig(ModelSettings):
+    """Settings of the coverage scorer (CLI defaults and help read these), after the model's."""
 
     keywords: int = 40
     window: int = 32
@@ -72,23 +73,16 @@ class CoverageConfig:
     headline: str = "logprob"
     mode: str = "middle"
     lowercase: bool = True
-    dtype: str = "auto"  # "auto": bfloat16 where the CPU runs it fast, else float32 (models.fast_dtype)
     blank: str = "___"
     filler: str = "."
     prefix_bucket: int = 32
     row_tokens: int = 128
-    batch_tokens: int = 4096
 
     def __post_init__(self):
-        if self.mode not in MODES:
-            raise ValueError(f"mode must be one of {MODES}, got {self.mode!r}")
-        if self.headline not in HEADLINES:
-            raise ValueError(f"headline must be one of {HEADLINES}, got {self.headline!r}")
-        if self.dtype not in ("auto", "float32", "bfloat16"):
-            raise ValueError(f"dtype must be auto, float32 or bfloat16, got {self.dtype!r}")
-        for name in ("keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "row_tokens", "batch_tokens"):
-            if getattr(self, name) < 1:
-                raise ValueError(f"{name} must be at least 1, got {getattr(self, name)}")
+        super().__post_init__()
+        check_choice("mode", self.mode, MODES)
+        check_choice("headline", self.headline, HEADLINES)
+        check_positive(self, "keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "row_tokens")
 
 
 @dataclass(frozen=True)
@@ -115,7 +109,7 @@ class KeywordEvidence:
 
 
 @dataclass(frozen=True)
-class CoverageScore:
+class CoverageScore(Result):
     """Coverage of one summary, with its evidence."""
 
     value: float
@@ -130,17 +124,13 @@ class CoverageScore:
     keywords: tuple[KeywordEvidence, ...]
     signature: Signature = field(compare=False)
 
-    @property
-    def recovered(self) -> tuple[str, ...]:
-        return tuple(k.word for k in self.keywords if k.status == "recovered")
+    def words_in(self, status: str) -> tuple[str, ...]:
+        """The key words with a given status, in key-word order."""
+        return tuple(k.word for k in self.keywords if k.status == status)
 
-    @property
-    def missed(self) -> tuple[str, ...]:
-        return tuple(k.word for k in self.keywords if k.status == "missed")
-
-    @property
-    def known(self) -> tuple[str, ...]:
-        return tuple(k.word for k in self.keywords if k.status == "known")
+    recovered = property(lambda self: self.words_in("recovered"))
+    missed = property(lambda self: self.words_in("missed"))
+    known = property(lambda self: self.words_in("known"))
 
     @property
     def unit(self) -> float:
@@ -174,15 +164,11 @@ class _Pass:
     hits: tuple[bool, ...]
 
 
-class CoverageScorer:
-    """Masked key-word recovery with the packaged causal model (route: causal left context)."""
+class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="source", config=CoverageConfig):
+    """The share of the model's uncertainty about the source's blanked key words that the summary
+    removes: how much of the source's key content it carries (the key words still missed are
+    listed). Masked key-word recovery with the packaged causal model, reading left context."""
 
-    name = "coverage"
-    label = "Coverage"
-    description = ("the share of the model's uncertainty about the source's blanked key words that the summary "
-                   "removes: how much of the source's key content it carries (the key words still missed are listed)")
-    needs = "source"
-    Config = CoverageConfig
     columns = (
         Column("coverage", lambda r: r.share, "pct", "coverage", "Coverage"),
         Column("coverage_logprob_gain", lambda r: r.logprob_gain),
@@ -191,8 +177,8 @@ class CoverageScorer:
         Column("missed", lambda r: r.missed, "words"),
     )
 
-    def __init__(self, config: CoverageConfig = CoverageConfig()):
-        self.config = config
+    def __init__(self, config: CoverageConfig | None = None):
+        super().__init__(config)
         self._baselines: dict[tuple[str, int], _Pass] = {}
 
     # ------------------------------------------------------------------ public

@@ -24,7 +24,8 @@ import re
 from dataclasses import dataclass, field
 from typing import Protocol
 
-from scoring.base import Column, Signature, result_dict
+from scoring.base import BaseScorer, Column, Result, Signature, result_dict
+from scoring.lm import ModelSettings
 
 # log PP of edited English prose under SmolLM2-135M (Q4_1 dequantised, bfloat16), each sentence
 # read on its own: median 4.65 over 1,253 sentences of the demo documents and 5.23 over 199
@@ -42,23 +43,28 @@ class TokenModel(Protocol):
 
 
 @dataclass(frozen=True)
-class FluencyConfig:
+class FluencyConfig(ModelSettings):
+    """Settings of the fluency scorer, after the model's.
+
+    ``scale``: nats of perplexity gap over the source that take fluency from 1 to 1/e;
+    ``flag_gap``: a sentence whose own gap exceeds this is flagged "reads poorly";
+    ``flag_penalty``: how much the flagged share of words lowers the value (0 to 1);
+    ``reference_sentences``: how many source sentences (an even sample) give the reference
+    perplexity. Rules of thumb, not tuned (see the module docstring)."""
+
     scale: float = 2.0
     flag_gap: float = 1.5
     flag_penalty: float = 0.5
     reference_sentences: int = 24
-    dtype: str = "auto"  # "auto": bfloat16 where the CPU runs it fast, else float32 (models.fast_dtype)
-    batch_tokens: int = 4096
 
     def __post_init__(self):
+        super().__post_init__()
         if self.scale <= 0 or self.flag_gap <= 0:
             raise ValueError("scale and flag_gap must be positive")
         if not 0 <= self.flag_penalty <= 1:
             raise ValueError(f"flag_penalty must lie in [0, 1], got {self.flag_penalty}")
         if self.reference_sentences < 1:
             raise ValueError("reference_sentences must be at least 1")
-        if self.dtype not in ("auto", "float32", "bfloat16"):
-            raise ValueError(f"dtype must be auto, float32 or bfloat16, got {self.dtype!r}")
 
 
 @dataclass(frozen=True)
@@ -69,7 +75,9 @@ class SentenceFluency:
 
 
 @dataclass(frozen=True)
-class FluencyScore:
+class FluencyScore(Result):
+    """Fluency of one summary: the bounded value, the perplexities behind it, each sentence."""
+
     value: float
     perplexity: float
     reference_perplexity: float
@@ -79,11 +87,6 @@ class FluencyScore:
     @property
     def flagged(self) -> tuple[SentenceFluency, ...]:
         return tuple(s for s in self.sentences if s.flags)
-
-    @property
-    def unit(self) -> float:
-        """The value in [0, 1] the combined score uses."""
-        return self.value
 
     def to_dict(self) -> dict:
         return result_dict(self, sentences=[{"text": s.text, "perplexity": s.perplexity, "flags": list(s.flags)}
@@ -116,26 +119,21 @@ def _trigrams(sentence: str) -> set[tuple[str, ...]]:
     return {tuple(words[i : i + 3]) for i in range(len(words) - 2)}
 
 
-class FluencyScorer:
-    """Perplexity-based fluency with sentence flags."""
+class FluencyScorer(BaseScorer, name="fluency", label="Fluency", needs="source", config=FluencyConfig):
+    """How easily the summary reads, from the small language model's perplexity relative to the
+    source's: 1 = as easily as the source, lower = harder going."""
 
-    name = "fluency"
-    label = "Fluency"
-    description = ("how easily the summary reads, from the small language model's perplexity relative to the "
-                   "source's: 1 = as easily as the source, lower = harder going")
-    needs = "source"
-    Config = FluencyConfig
     columns = (
         Column("fluency", lambda r: r.value, "num2", "fluency", "Fluency"),
         Column("perplexity", lambda r: r.perplexity),
     )
 
-    def __init__(self, config: FluencyConfig = FluencyConfig(), model: TokenModel | None = None):
-        self.config = config
+    def __init__(self, config: FluencyConfig | None = None, model: TokenModel | None = None):
+        super().__init__(config)
         if model is None:
             from scoring.lm import causal_lm
 
-            model = causal_lm(config.dtype, config.batch_tokens)
+            model = causal_lm(self.config.dtype, self.config.batch_tokens)
         self.model = model
         self._references: dict[str, float] = {}
 

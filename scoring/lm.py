@@ -21,7 +21,25 @@ from __future__ import annotations
 import functools
 from collections.abc import Sequence
 
+from dataclasses import dataclass
+
+from scoring.base import check_choice, check_positive
 from scoring.batching import length_batches
+from scoring.models.dtype import DTYPES
+
+@dataclass(frozen=True)
+class ModelSettings:
+    """How a scorer runs the causal model: its dtype ("auto": bfloat16 where the CPU runs it
+    natively, else float32; ``scoring.models.dtype``) and the tokens one batch may hold. The
+    configs of the scorers that read the model extend it."""
+
+    dtype: str = "auto"
+    batch_tokens: int = 4096
+
+    def __post_init__(self):
+        check_choice("dtype", self.dtype, DTYPES)
+        check_positive(self, "batch_tokens")
+
 
 # rows of the vocabulary layer computed at once (49,152 log-probabilities each)
 VOCAB_SLICE = 512

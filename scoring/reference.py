@@ -29,7 +29,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 from scoring import models  # first: importing it forces the Hugging Face libraries offline
-from scoring.base import Column, Signature, result_dict
+from scoring.base import BaseScorer, Column, Result, Signature, result_dict
 
 ROUGE_TYPES = ("rouge1", "rouge2", "rougeL", "rougeLsum")
 SPLITS = ("syntok", "lines")
@@ -96,13 +96,18 @@ class RougeConfig:
 
 
 @dataclass(frozen=True)
-class RougeScore:
+class RougeScore(Result):
     """ROUGE of one summary: precision, recall and F1 per type, and which reference each used."""
 
     scores: dict[str, dict[str, float]]  # {type: {"precision", "recall", "f1"}}
     references: int  # how many references were given
     best_reference: dict[str, int]  # {type: index of the reference kept (best F1, first on ties)}
     signature: Signature = field(compare=False)
+
+    @property
+    def value(self) -> float:
+        """The headline: ROUGE-Lsum F1 when computed, else the first type's F1."""
+        return self.f1("rougeLsum" if "rougeLsum" in self.scores else next(iter(self.scores)))
 
     def f1(self, rouge_type: str = "rougeLsum") -> float:
         if rouge_type not in self.scores:
@@ -114,23 +119,15 @@ class RougeScore:
                            best_reference=dict(self.best_reference))
 
 
-class RougeScorer:
-    """ROUGE through rouge-score, with ROUGE-Lsum on one sentence per line (as ROUGE-1.5.5.pl)."""
+class RougeScorer(BaseScorer, name="rouge", label="ROUGE", needs="references", config=RougeConfig):
+    """ROUGE F1 against the reference summaries given (rouge-score, stemmed, ROUGE-Lsum on one
+    sentence per line as ROUGE-1.5.5.pl reads it; with several references the best per type)."""
 
-    name = "rouge"
-    label = "ROUGE"
-    description = ("ROUGE F1 against the reference summaries given (rouge-score, stemmed; with several "
-                   "references the best one per ROUGE type)")
-    needs = "references"
-    Config = RougeConfig
     columns = tuple(
         Column(kind, lambda r, kind=kind: r.f1(kind), "num3", header, title)
         for kind, header, title in (("rouge1", "R-1", "ROUGE-1 F1"), ("rouge2", "R-2", "ROUGE-2 F1"),
                                     ("rougeL", "", ""), ("rougeLsum", "R-Lsum", "ROUGE-Lsum F1"))
     )
-
-    def __init__(self, config: RougeConfig = RougeConfig()):
-        self.config = config
 
     def score_many(self, summaries: Sequence[str], *, source=None, references: Reference | None = None) -> list[RougeScore]:
         """Score several summaries against the same reference(s)."""
@@ -233,7 +230,7 @@ class BertScoreConfig:
 
 
 @dataclass(frozen=True)
-class BertScore:
+class BertScore(Result):
     """BERTScore of one summary (raw cosine-based values, not rescaled)."""
 
     precision: float
@@ -243,23 +240,16 @@ class BertScore:
     truncated: bool  # the summary or a reference was cut at the encoder's 512 word pieces
     signature: Signature = field(compare=False)
 
-    def to_dict(self) -> dict:
-        return result_dict(self)
+    @property
+    def value(self) -> float:
+        return self.f1
 
 
-class BertScoreScorer:
-    """BERTScore through bert-score with the packaged MiniLM encoder, on the CPU, offline."""
+class BertScoreScorer(BaseScorer, name="bertscore", label="BERTScore", needs="references", config=BertScoreConfig):
+    """BERTScore F1 against the reference summaries given (bert-score with the packaged MiniLM
+    encoder, on the CPU, offline, not rescaled)."""
 
-    name = "bertscore"
-    label = "BERTScore"
-    description = ("BERTScore F1 against the reference summaries given (bert-score with the packaged MiniLM "
-                   "encoder, not rescaled)")
-    needs = "references"
-    Config = BertScoreConfig
     columns = (Column("bertscore", lambda r: r.f1, "num3", "BERTSc", "BERTScore F1"),)
-
-    def __init__(self, config: BertScoreConfig = BertScoreConfig()):
-        self.config = config
 
     def score(self, summary: str, *, reference: Reference | None = None) -> BertScore:
         return self.score_many([summary], references=reference)[0]

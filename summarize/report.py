@@ -93,7 +93,7 @@ def describe(candidates, combine=None) -> list[tuple[str, str]]:
     present = [name for name in registry.names() if any(c.scores.get(name) is not None for c in candidates)]
     out = [(registry.scorer_class(n).label, registry.scorer_class(n).description) for n in present]
     formula = (combine or (candidates[0].combine if candidates else CombineConfig())).describe("agreement" in present)
-    out.append(("Combined", formula))
+    out.append(("Combined", formula + "."))
     return out
 
 
@@ -104,7 +104,7 @@ def legend(width: int = 76) -> str:
 
     items = [(n, registry.scorer_class(n).description) for n in registry.names()
              if registry.scorer_class(n).needs != "references"]
-    items.append(("combined", CombineConfig().describe() + "; a summary over --words ranks last"))
+    items.append(("combined", CombineConfig().describe() + "; a summary over --words ranks last."))
     pad = max(len(n) for n, _ in items) + 2
     return "\n".join(textwrap.fill(text, width, initial_indent=name.ljust(pad), subsequent_indent=" " * pad)
                      for name, text in items)
@@ -141,7 +141,7 @@ def table(candidates, combine=None) -> str:
     fmt = lambda cells: "  ".join(c.rjust(w) if i != 1 else c.ljust(w) for i, (c, w) in enumerate(zip(cells, widths)))
     out = [fmt(header), fmt(["-" * w for w in widths])] + [fmt(line) for line in lines]
     out.append("")
-    out += [f"{label.lower()}: {meaning}." for label, meaning in describe(candidates, combine)]
+    out += [f"{label.lower()}: {meaning}" for label, meaning in describe(candidates, combine)]
     return "\n".join(out)
 
 

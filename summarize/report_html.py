@@ -184,7 +184,7 @@ def _ranking(cmp: Comparison) -> str:
     numeric = ' class="n"'
     ths = "".join(f'<th scope="col"{numeric if i != 1 else ""}>{_wrap_words(h)}</th>' for i, h in enumerate(head))
     order = " within budget first, then" if cmp.budget else ""
-    notes = [f"<strong>{esc(label)}</strong>: {esc(meaning)}." for label, meaning in report.describe(cmp.candidates)]
+    notes = [f"<strong>{esc(label)}</strong>: {esc(meaning)}" for label, meaning in report.describe(cmp.candidates)]
     if cmp.budget:
         notes.append("A candidate over the word budget ranks after every candidate within it.")
     return (

@@ -37,16 +37,7 @@ class LoadedModel:
 def load_encoder() -> LoadedModel:
     """MiniLM encoder (no MLM head) and its tokenizer."""
     path = encoder_path()
-    set_threads()
-    quiet_transformers()
-    from transformers import AutoModel, AutoTokenizer
-
-    try:
-        tokenizer = AutoTokenizer.from_pretrained(str(path))
-        model = AutoModel.from_pretrained(str(path)).eval()
-    except Exception as exc:
-        raise ModelError(f"the encoder at {path} does not load ({exc}); {SETUP_HINT}") from exc
-    return LoadedModel(model, tokenizer, path)
+    return _from_folder(path, "AutoModel", "the encoder")
 
 
 @functools.cache
@@ -61,13 +52,21 @@ def load_causal() -> LoadedModel:
     # candidates of a 5,000-word source took about 1 s less here). "0" in the environment keeps
     # the copying path.
     os.environ.setdefault("TRANSFORMERS_SDPA_FORCE_GQA", "1")
-    from transformers import AutoModelForCausalLM, AutoTokenizer
+    return _from_folder(folder, "AutoModelForCausalLM", "the causal model")
+
+
+def _from_folder(folder: Path, auto: str, what: str) -> LoadedModel:
+    """A transformers model (class ``auto``) and its tokenizer from a local folder, in eval mode;
+    a failure is one ModelError line naming ``what`` and the fix."""
+    set_threads()
+    quiet_transformers()
+    import transformers
 
     try:
-        tokenizer = AutoTokenizer.from_pretrained(str(folder))
-        model = AutoModelForCausalLM.from_pretrained(str(folder)).eval()
+        tokenizer = transformers.AutoTokenizer.from_pretrained(str(folder))
+        model = getattr(transformers, auto).from_pretrained(str(folder)).eval()
     except Exception as exc:
-        raise ModelError(f"the causal model at {folder} does not load ({exc}); {SETUP_HINT}") from exc
+        raise ModelError(f"{what} at {folder} does not load ({exc}); {SETUP_HINT}") from exc
     return LoadedModel(model, tokenizer, folder)
 
 
