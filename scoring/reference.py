@@ -287,6 +287,7 @@ class BertScoreScorer(BaseScorer, name="bertscore", label="BERTScore", needs="re
             "bertscore",
             {
                 "model": f"minilm-l6@{models.short_checksum('encoder')}",
+                "dtype": "float32",  # bert-score runs the encoder as loaded, in float32
                 "layers": c.num_layers,
                 "idf": c.idf,
                 "rescaled": False,

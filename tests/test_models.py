@@ -138,11 +138,33 @@ def test_python_dash_m_runs_the_same_command_line():
     assert "summarize" in out.stdout and "score" in out.stdout and "qualified person" in out.stdout
 
 
-def test_dtype_choice_keeps_bfloat16_only_where_it_is_fast():
-    # a CPU that emulates bfloat16 (measured here: 0.3 GFLOPS against 176 in float32) gets float32
-    assert models.pick_dtype(seconds_bf16=0.5, seconds_fp32=0.001) == "float32"
-    assert models.pick_dtype(seconds_bf16=0.0004, seconds_fp32=0.001) == "bfloat16"
-    assert models.pick_dtype(seconds_bf16=0.0012, seconds_fp32=0.001) == "bfloat16"  # within the tolerance
+# Flag lines as /proc/cpuinfo prints them (abridged): an AVX2-only x86 CPU (this machine's kind),
+# an x86 CPU with AVX-512 BF16, one with AMX, and an Arm CPU with the BF16 extension. The flag
+# names are the Linux kernel's (arch/x86/include/asm/cpufeatures.h, arch/arm64 hwcaps), from memory.
+AVX2_ONLY = "processor\t: 0\nflags\t\t: fpu sse sse2 avx avx2 fma\n"
+AVX512_BF16 = "flags\t\t: fpu avx2 avx512f avx512bw avx512_vnni avx512_bf16\n"
+AMX = "flags\t\t: avx2 avx512f amx_tile amx_bf16 amx_int8\n"
+ARM_BF16 = "processor\t: 0\nFeatures\t: fp asimd sve bf16 i8mm\n"
+
+
+@pytest.mark.parametrize("cpuinfo, expected", [(AVX2_ONLY, "float32"), (AVX512_BF16, "bfloat16"), (AMX, "bfloat16"),
+                                               (ARM_BF16, "bfloat16"), ("", "float32")])
+def test_dtype_comes_from_what_the_cpu_is(cpuinfo, expected):
+    # bfloat16 only where the CPU computes in it natively; an emulating CPU (measured here: 0.3
+    # GFLOPS in bfloat16 against 176 in float32) gets float32, whatever a timing would say under load
+    assert models.dtype_for(models.cpu_flags(cpuinfo)) == expected
+
+
+def test_the_dtype_is_decided_without_timing_anything(monkeypatch):
+    import time
+
+    monkeypatch.delenv("BOILDOWN_DTYPE", raising=False)
+    monkeypatch.setattr(time, "perf_counter", lambda: (_ for _ in ()).throw(AssertionError("timed")))
+    models.fast_dtype.cache_clear()
+    try:
+        assert models.fast_dtype() == models.dtype_for(models.cpu_flags())
+    finally:
+        models.fast_dtype.cache_clear()
     assert models.resolve_dtype("float32") == "float32"
     with pytest.raises(ValueError):
         models.resolve_dtype("float16")
@@ -168,6 +190,16 @@ def test_a_bad_forced_dtype_is_a_clear_error(monkeypatch):
         models.fast_dtype.cache_clear()
 
 
-def test_auto_dtype_is_measured_on_this_cpu():
+def test_auto_dtype_on_this_cpu_is_a_known_dtype():
     models.fast_dtype.cache_clear()
     assert models.fast_dtype() in ("float32", "bfloat16")
+
+
+@pytest.mark.parametrize("name", ["coverage", "fluency", "bertscore"])
+def test_every_model_based_score_records_its_dtype(name):
+    # the dtype changes a model's numbers (bfloat16 shifts perplexities), so the signature of
+    # every score computed by a model must say which one ran
+    from scoring import registry
+
+    settings = dict(registry.build(name).signature().settings)
+    assert settings.get("dtype") in ("float32", "bfloat16")

@@ -515,7 +515,8 @@ def test_bertscore_signature_and_json():
     score = BertScoreScorer().score("The ban was lifted.", reference="The hosepipe ban ended.")
     versions = ", ".join(f"{lib} {package_version(lib)}" for lib in ("boildown", "bert-score", "torch", "transformers"))
     assert str(score.signature) == (
-        f"bertscore(model=minilm-l6@{short_checksum('encoder')}, layers=6, idf=no, rescaled=no) on {versions}"
+        f"bertscore(model=minilm-l6@{short_checksum('encoder')}, dtype=float32, layers=6, idf=no, rescaled=no) "
+        f"on {versions}"
     )
     data = json.loads(json.dumps(score.to_dict()))
     assert set(data) == {"precision", "recall", "f1", "references", "truncated", "signature"}

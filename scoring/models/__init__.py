@@ -17,8 +17,8 @@ from scoring.models.files import (  # noqa: F401
     cache_dir, checksum, encoder_path, gguf_path, sha256_dir, sha256_file, short_checksum, spacy_path,
 )
 from scoring.models.install import causal_dir, convert_causal, ensure_packages, quiet_transformers, verify_copy  # noqa: F401
-from scoring.models.dtype import DTYPES, fast_dtype, pick_dtype, resolve_dtype  # noqa: F401
+from scoring.models.dtype import DTYPES, cpu_flags, dtype_for, fast_dtype, resolve_dtype  # noqa: F401
 from scoring.models.loading import (  # noqa: F401
-    LoadedModel, causal_in_dtype, load_causal, load_encoder, load_spacy, set_threads,
+    LOADERS, LoadedModel, causal_in_dtype, load_causal, load_encoder, load_spacy, set_threads,
 )
 from scoring.models.status import ModelStatus, model_status, status_text, unavailable  # noqa: F401

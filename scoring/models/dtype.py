@@ -1,52 +1,59 @@
-"""The dtype the models run in: float32, or bfloat16 where this CPU runs it fast."""
+"""The dtype the models run in: float32, or bfloat16 where this CPU computes in it natively.
+
+The choice is read from what the CPU is, never from a timing: a timing taken on a busy machine
+can make an emulated bfloat16 look fast enough, and then every model pass runs emulated (one
+editor's comparison took 23 minutes in one run and 7 in the next, same load), and a score must
+not change with the machine's load (bfloat16 shifts perplexities). bfloat16 is native on x86
+CPUs with AVX-512 BF16 or AMX (cpuinfo flags ``avx512_bf16``, ``amx_bf16``) and on Arm CPUs with
+the BF16 extension (feature ``bf16``); everywhere else the models run in float32.
+``BOILDOWN_DTYPE=float32|bfloat16`` forces one. Every signature of a model-based score records
+the dtype used.
+"""
 
 from __future__ import annotations
 
 import functools
 import os
-import time
+from pathlib import Path
 
 from scoring.models.specs import ModelError
 
 DTYPES = ("auto", "float32", "bfloat16")
-# bfloat16 is kept when a bfloat16 matrix product takes at most this multiple of the float32 one
-BF16_TOLERANCE = 1.5
+# CPU flags (x86 /proc/cpuinfo "flags", Arm "Features") that mean bfloat16 matrix products run in hardware
+NATIVE_BF16_FLAGS = frozenset({"avx512_bf16", "amx_bf16", "bf16"})
 
 
-def pick_dtype(seconds_bf16: float, seconds_fp32: float) -> str:
-    """The faster dtype from two measured times (bfloat16 wins ties up to ``BF16_TOLERANCE``)."""
-    return "bfloat16" if seconds_bf16 <= BF16_TOLERANCE * seconds_fp32 else "float32"
+def cpu_flags(cpuinfo: str | None = None) -> frozenset[str]:
+    """The CPU's feature flags from /proc/cpuinfo (empty where it cannot be read: not Linux)."""
+    if cpuinfo is None:
+        try:
+            cpuinfo = Path("/proc/cpuinfo").read_text(errors="replace")
+        except OSError:
+            return frozenset()
+    flags: set[str] = set()
+    for line in cpuinfo.splitlines():
+        key, _, value = line.partition(":")
+        if key.strip().lower() in ("flags", "features"):
+            flags.update(value.split())
+    return frozenset(flags)
+
+
+def dtype_for(flags: frozenset[str]) -> str:
+    """bfloat16 when the flags say the CPU computes in it natively, else float32."""
+    return "bfloat16" if flags & NATIVE_BF16_FLAGS else "float32"
 
 
 @functools.cache
 def fast_dtype() -> str:
-    """The dtype the models run in when set to "auto": $BOILDOWN_DTYPE if set, else bfloat16 where
-    this CPU multiplies in it about as fast as in float32 or faster (AVX-512 BF16, AMX, Arm
-    BF16), else float32. Measured once per process on a 128 x 128 product (a few ms): CPUs
-    without native bfloat16 emulate it, and one seen here ran it at 0.3 GFLOPS against 176 in
-    float32, which made scoring a summary take minutes."""
+    """The dtype the models run in when set to "auto": $BOILDOWN_DTYPE if set, else what this
+    CPU computes in natively (``dtype_for(cpu_flags())``). Decided once per process, from the
+    CPU's flags alone, so it does not depend on the machine's load."""
     forced = os.environ.get("BOILDOWN_DTYPE", "").strip()
     if forced:
         if forced not in DTYPES[1:]:
             raise ModelError(f"BOILDOWN_DTYPE must be float32 or bfloat16, got {forced!r}")
         return forced
-    import torch
-
-    from scoring.models.loading import set_threads
-
-    set_threads()
-
-    def best_of(x) -> float:
-        x @ x
-        times = []
-        for _ in range(3):
-            start = time.perf_counter()
-            x @ x
-            times.append(time.perf_counter() - start)
-        return min(times)
-
-    a = torch.randn(128, 128)
-    return pick_dtype(best_of(a.to(torch.bfloat16)), best_of(a))
+    return dtype_for(cpu_flags())
 
 
 def resolve_dtype(dtype: str) -> str:
@@ -54,4 +61,3 @@ def resolve_dtype(dtype: str) -> str:
     if dtype not in DTYPES:
         raise ValueError(f"dtype must be one of {', '.join(DTYPES)}, got {dtype!r}")
     return fast_dtype() if dtype == "auto" else dtype
-
