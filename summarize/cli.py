@@ -168,6 +168,9 @@ _reference_option = click.option(
 _budget_option = click.option(
     "--words", type=click.IntRange(min=1), default=None,
     help="Word budget: a candidate over it is flagged and ranked last.")
+_keywords_option = click.option(
+    "--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
+    help="How many key words to blank in the source.")
 
 
 def _indent(text: str, prefix: str) -> str:
@@ -183,8 +186,7 @@ def _progress(quiet: bool):
 @click.argument("summaries", nargs=-1, required=True)
 @_reference_option
 @_budget_option
-@click.option("--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
-              help="How many key words to blank in the source.")
+@_keywords_option
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
 @click.option("--csv", "as_csv", is_flag=True, help="Print the ranked table as CSV.")
 @click.option("--explain/--no-explain", default=True, show_default=True,
@@ -243,8 +245,7 @@ score.help = score.help.replace("{legend}", _indent(_report.legend(), "    ").ls
 @click.argument("candidates", nargs=-1, required=False)
 @_reference_option
 @_budget_option
-@click.option("--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
-              help="How many key words to blank in the source.")
+@_keywords_option
 @click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
               help="Write the comparison page (one self-contained HTML file) to this path and print the path.")
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
@@ -265,12 +266,12 @@ def compare_cmd(source, candidates, references, words, keywords, html_path, as_j
     or a .jsonl file with one {"name": ..., "text": ...} per line.
 
     Prints the ranked table, what put the first candidate above the second,
-    and a grid of the source's key words against the candidates (+ recovered
-    with the summary, = known from the source's context alone, - missed).
-    --html writes a page that also shows the candidates side by side with
-    their key words marked, the word-level differences of candidates that are
-    drafts of one another, and the source with every candidate sentence linked
-    to the source sentences it draws on.
+    and a grid of the source's key words against the candidates (the state the
+    coverage check gave each, with a legend). --html writes a page that also
+    shows the candidates side by side with their key words marked, the
+    word-level differences of candidates that are drafts of one another, and
+    the source with every candidate sentence linked to the source sentences it
+    draws on.
 
     \b
     Example:

@@ -78,12 +78,11 @@ def sentence_records(comparison: Comparison) -> dict[str, dict]:
 
 
 def _distinct(marks):
-    seen, out = set(), []
+    """The first mark of each key word, in order."""
+    first = {}
     for m in marks:
-        if m.word not in seen:
-            seen.add(m.word)
-            out.append(m)
-    return out
+        first.setdefault(m.word, m)
+    return list(first.values())
 
 
 def to_json(comparison: Comparison) -> str:

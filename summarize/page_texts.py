@@ -29,9 +29,9 @@ def esc(text) -> str:
 
 
 def breakable(name: str) -> str:
-    """An escaped name that may wrap after _ . - / : (file names have few spaces), never inside
-    the runs between them."""
-    return re.sub(r"([_./:-])(?=.)", r"\1<wbr>", esc(name))  # no entity contains any of these
+    """An escaped name that may wrap after _ . - / : or a shortening's … (file names have few
+    spaces), never inside the runs between them."""
+    return re.sub(r"([_./:…-])(?=.)", r"\1<wbr>", esc(name))  # no entity contains any of these
 
 
 def wrap_words(label: str) -> str:
