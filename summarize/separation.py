@@ -7,13 +7,16 @@ order follows is the first one that never rises down the ranks. When that total 
 mean of the scorers' values (the candidates' ``combine`` configuration gives it back exactly),
 each part's share of the gap is its weight times its difference, and the part with the largest
 share "made most of the difference"; otherwise the part with the largest difference is named.
-A candidate over the word budget ranks after every candidate within it whatever its scores, and
-equal totals are a tie broken by the ranking's tie-break.
+A candidate over the word budget ranks after every candidate within it whatever its scores;
+equal totals are a tie broken by the ranking's tie-break; and when no total shown follows the
+ranking (an order computed but not shown), it says so rather than cite a total that disagrees.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+
+from summarize import report
 
 
 @dataclass(frozen=True)
@@ -55,7 +58,7 @@ class Separation:
     total_kind: str
     first_total: float | None
     second_total: float | None
-    reason: str  # "budget", "tie" or "score"
+    reason: str  # "budget", "tie", "score", or "order" (no total shown follows the ranking)
     decided_by: str | None  # the component's label
     parts: tuple[Part, ...]
     text: str
@@ -72,46 +75,51 @@ class Separation:
 def separation(candidates) -> Separation | None:
     """Which component of the ranking (``report.ranking_columns``: every column of the scorers
     that read the source or the pool, then the totals) put the first candidate above the second."""
-    from summarize import report
-
     candidates = list(candidates)
     if len(candidates) < 2:
         return None
     a, b = candidates[:2]
     cols = report.ranking_columns(candidates)
     totals = [c for c in cols if c.scorer is None]
-    total = next((t for t in totals if _follows(t, candidates)), totals[0] if totals else None)
-    shares = _shares(a, b, total)
+    following = next((t for t in totals if _follows(t, candidates)), None)
+    total = following or (totals[0] if totals else None)
+    shares = _shares(a, b, following)
     parts = tuple(Part(col.title, col.kind, col.value(a), col.value(b), shares.get(col.scorer))
                   for col in cols if col.scorer is not None and None not in (col.value(a), col.value(b)))
     fa, fb = (total.value(a), total.value(b)) if total else (None, None)
-    show = lambda kind, v: report.cell(kind, v)
     lead = max(parts, key=lambda p: p.weight, default=None)
+    by = lead.label if lead is not None and lead.weight > 0 else None
     if a.over_budget != b.over_budget:
         reason, by = "budget", None
         text = (f"{b.name} is over the word budget, and a candidate over it ranks after every candidate "
                 f"within it, whatever its scores.")
-    elif total is None or fa == fb:
+    elif following is None:
+        reason = "order"
+        on = f" (on {total.title}: {_cell(total, fa)} against {_cell(total, fb)})" if total else ""
+        text = f"{a.name} ranks above {b.name} by an order that no total shown follows{on}."
+    elif fa == fb:
         reason, by = "tie", None
-        on = f" on {total.title} ({show(total.kind, fa)})" if total else ""
-        text = f"{a.name} and {b.name} tie{on}; {a.name} comes first on the tie-break."
+        text = f"{a.name} and {b.name} tie on {total.title} ({_cell(total, fa)}); {a.name} comes first on the tie-break."
     else:
-        reason, by = "score", lead.label if lead is not None and lead.weight > 0 else None
-        text = (f"{a.name} ranks above {b.name} on {total.title}: {show(total.kind, fa)} against "
-                f"{show(total.kind, fb)}.")
-        if by is not None:
-            text += f" {lead.label} made most of the difference ({_part_text(lead, show)})"
-            against = [p for p in parts if p.weight < 0]
-            if against:
-                worst = min(against, key=lambda p: p.weight)
-                text += f"; {worst.label} pulled the other way ({_part_text(worst, show)})"
-            text += "."
+        reason = "score"
+        text = f"{a.name} ranks above {b.name} on {total.title}: {_cell(total, fa)} against {_cell(total, fb)}."
+    if by is not None and reason in ("score", "order"):
+        text += f" {lead.label} made most of the difference ({_part_text(lead)})"
+        against = [p for p in parts if p.weight < 0]
+        if against:
+            worst = min(against, key=lambda p: p.weight)
+            text += f"; {worst.label} pulled the other way ({_part_text(worst)})"
+        text += "."
     return Separation(a.name, b.name, total.title if total else None, total.kind if total else "num3",
                       fa, fb, reason, by, parts, text)
 
 
-def _part_text(part: Part, show) -> str:
-    out = f"{show(part.kind, part.first)} against {show(part.kind, part.second)}"
+def _cell(column, value) -> str:
+    return report.cell(column.kind, value)
+
+
+def _part_text(part: Part) -> str:
+    out = f"{report.cell(part.kind, part.first)} against {report.cell(part.kind, part.second)}"
     if part.contribution is not None:
         out += f", {part.contribution:+.3f} at weight {part.share:.3g}"
     return out

@@ -166,11 +166,15 @@ def test_separation_by_budget_and_by_tie():
 def test_a_new_total_in_the_row_model_is_charted_and_followed(monkeypatch):
     """An ordering score added to the row model (as the ranking work will add one) is drawn in the
     chart and, when the ranking follows it, named as the total that separated the first two."""
+    weak, good = fake_ranked()[1], fake_ranked()[0]
+    ranked = [replace(weak, rank=1, extra={"ordering": 0.7}), replace(good, rank=2, extra={"ordering": 0.4})]
+    # before the column exists, no total shown follows this order: the page says so, not "on Combined"
+    unseen = comparison_of(read_document(SOURCE), ranked).separation
+    assert unseen.reason == "order" and unseen.text.startswith(
+        "weak.txt ranks above good.txt by an order that no total shown follows (on Combined: 0.315 against 0.667).")
     ordering = report._Bound(None, Column("ordering", lambda c: c.extra["ordering"], "num3", "ordering", "Ordering"))
     real = report.columns
     monkeypatch.setattr(report, "columns", lambda cands: real(cands) + [ordering])
-    weak, good = fake_ranked()[1], fake_ranked()[0]
-    ranked = [replace(weak, rank=1, extra={"ordering": 0.7}), replace(good, rank=2, extra={"ordering": 0.4})]
     cmp = comparison_of(read_document(SOURCE), ranked)
     sep = cmp.separation
     assert sep.total == "Ordering" and sep.first == "weak.txt" and sep.decided_by == "Fluency"
