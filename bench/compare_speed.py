@@ -2,8 +2,8 @@
 
     BOILDOWN_DTYPE=float32 .venv/bin/python bench/compare_speed.py [--repeats 3]
 
-Source: the demo's annual water quality report (invented; 5,941 words, the demo report of about
-5,000 words). Candidates: its two hand-written abstracts and boildown's own 150-word summary
+Source: the demo's annual water quality report (invented; 5,889 words once read, 5,941 by
+`wc -w` on the file: the demo report of about 5,000 words). Candidates: its two hand-written abstracts and boildown's own 150-word summary
 (made once, before any timing). In one run, alternating so that the machine's load falls on
 both alike, each command runs as its own process, as a user waits for it (start-up and model
 loading included):

@@ -517,6 +517,12 @@ def compare_speed(d: dict) -> list[str]:
         for key in dict.fromkeys([*stages["score"], *stages["compare"]]):
             cell = lambda kind: f"{stages[kind][key]:.1f}" if key in stages[kind] else "-"
             out.append(f"| {key} | {cell('score')} | {cell('compare')} |")
+        own = sum(v for k, v in stages["compare"].items() if not k.startswith(("scoring: ", "reading")))
+        scoring = sum(v for k, v in stages["score"].items() if k.startswith("scoring: "))
+        out += ["", f"The scoring rows are the same work in both columns (the same scorers on the same candidates); "
+                "their difference is the machine's load at the time. What `compare` adds of its own is the last "
+                f"rows: {own:.1f} s against {scoring:.0f} s of scoring, so on a quiet machine the ratio is set by "
+                "start-up and scoring, which both commands share."]
     return out + [""]
 
 
