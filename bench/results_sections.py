@@ -496,6 +496,36 @@ def batch(d: dict) -> list[str]:
     return out + [""]
 
 
+def compare_speed(d: dict) -> list[str]:
+    m, runs = d["median_s"], d["runs"]
+    words = ", ".join(f"{w}" for w in d["candidate_words"])
+    load = d["load_average"]
+    out = [f"`compare` against `score` on the same {len(d['candidates'])} candidates ({words} words) of the "
+           f"{d['source_words']:,}-word demo report, each command its own process (start-up and model loading "
+           f"included), alternating, models in {short(d['dtype'])} ({when(d)}, "
+           f"`BOILDOWN_DTYPE={d['dtype']} {PYTHON} bench/compare_speed.py`):", "",
+           "| command | median seconds | runs |", "|---|---|---|",
+           f"| `score` | {m['score']:.1f} | " + ", ".join(f"{x:.1f}" for x in runs["score"]) + " |",
+           f"| `compare --html` | {m['compare']:.1f} | " + ", ".join(f"{x:.1f}" for x in runs["compare"]) + " |", "",
+           f"**{d['ratio']:.2f}x** (target at most {d['target']}x: {'met' if d['met'] else 'missed'}); the "
+           f"machine's one-minute load average ran from {load['min']:.1f} to {load['max']:.1f} on its 2 cores "
+           "during the runs."]
+    stages = d.get("stages_in_process")
+    if stages:
+        out += ["", "Where the time goes, one run of each in a process with the models loaded (every cache of the "
+                "source emptied first), in seconds:", "", "| stage | score | compare |", "|---|---|---|"]
+        for key in dict.fromkeys([*stages["score"], *stages["compare"]]):
+            cell = lambda kind: f"{stages[kind][key]:.1f}" if key in stages[kind] else "-"
+            out.append(f"| {key} | {cell('score')} | {cell('compare')} |")
+        own = sum(v for k, v in stages["compare"].items() if not k.startswith(("scoring: ", "reading")))
+        scoring = sum(v for k, v in stages["score"].items() if k.startswith("scoring: "))
+        out += ["", f"The scoring rows are the same work in both columns (the same scorers on the same candidates); "
+                "their difference is the machine's load at the time. What `compare` adds of its own is the last "
+                f"rows: {own:.1f} s against {scoring:.0f} s of scoring, so on a quiet machine the ratio is set by "
+                "start-up and scoring, which both commands share."]
+    return out + [""]
+
+
 SECTIONS = (
     Section("Coverage against human judgements (REALSumm)", "coverage_validity", "bench/coverage_validity.py",
             coverage_validity),
@@ -512,5 +542,6 @@ SECTIONS = (
     Section("Summarizer speed and memory", "summarize_speed", "bench/summarize_speed.py", summarizer_speed),
     Section("The word budget", "budget_check", "bench/budget_check.py", budget),
     Section("Batch throughput", "batch_speed", "bench/batch_speed.py", batch),
+    Section("The editor's comparison against scoring", "compare_speed", "bench/compare_speed.py", compare_speed),
 )
 """The page's sections, in order (later ones refer to earlier ones as "above")."""

@@ -81,20 +81,46 @@ class Evaluator:
         references: Sequence[str] | None = None,
         budget: int | None = None,
         progress: Callable[[str], None] | None = None,
+        scored: Sequence[Mapping[str, object] | None] | None = None,
     ) -> list[Candidate]:
-        """Score (name, text) pairs against the source; return them ranked."""
+        """Score (name, text) pairs against the source; return them ranked.
+
+        ``scored`` (parallel to ``candidates``) gives, per candidate, results this evaluator
+        already computed for it on this source, by scorer name: a result whose signature is the
+        scorer's is reused, not computed again (a pool scorer always runs: the pool is new).
+        When ``progress`` also has a ``step(stage, done, total)`` method, the scorers that read
+        the source take one candidate at a time and report each step."""
         if not source or not source.strip():
             raise ValueError("the source is empty: there is nothing to summarise or cover")
         say = progress or (lambda _m: None)
+        step = getattr(progress, "step", None)
         texts = [text for _, text in candidates]
+        given = list(scored) if scored is not None else [None] * len(texts)
+        if len(given) != len(texts):
+            raise ValueError(f"scored lists {len(given)} candidates, not {len(texts)}")
         refs = [r for r in (references or []) if r and r.strip()]
         results: dict[str, list] = {}
         for name, scorer in self.scorers.items():
             if scorer.needs == "references" and not refs:
                 continue
-            if scorer.needs != "pool":
-                say(f"{name} of {len(texts)} candidate(s)")
-            results[name] = scorer.score_many(texts, source=source, references=refs or None)
+            if scorer.needs == "pool":
+                results[name] = scorer.score_many(texts, source=source, references=refs or None)
+                continue
+            found = [_reusable(g, name, scorer) for g in given]
+            todo = [i for i, r in enumerate(found) if r is None]
+            reused = f" ({len(texts) - len(todo)} already scored)" if len(todo) < len(texts) else ""
+            say(f"{name} of {len(todo)} candidate(s){reused}")
+            size = 1 if step else max(1, len(todo))
+            for k in range(0, len(todo), size):
+                if step:
+                    step(name, k, len(todo))
+                chunk = todo[k : k + size]
+                for i, r in zip(chunk, scorer.score_many([texts[i] for i in chunk], source=source,
+                                                          references=refs or None)):
+                    found[i] = r
+            if step and todo:
+                step(name, len(todo), len(todo))
+            results[name] = found
         out = []
         for i, (name, text) in enumerate(candidates):
             scores = {key: found[i] for key, found in results.items()}
@@ -106,6 +132,15 @@ class Evaluator:
         """The combined score of one candidate's results."""
         return self.config.combine.value({name: r.unit if r is not None else None for name, r in scores.items()
                                           if name in dict(self.config.combine.weights)})
+
+
+def _reusable(given: Mapping[str, object] | None, name: str, scorer):
+    """A result given for scorer ``name`` that the scorer would compute again as it is (the same
+    signature: settings, model and versions), or None."""
+    found = (given or {}).get(name)
+    if found is None or getattr(found, "signature", None) != scorer.signature():
+        return None
+    return found
 
 
 @functools.cache

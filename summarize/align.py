@@ -13,6 +13,12 @@ approaches in automatic text retrieval") over lowercased word unigrams and bigra
   ``SECOND_SHARE`` of the best and at least ``SECOND_FLOOR``; a sentence sharing no term with
   the source draws on nothing (an empty list). Ties go to the earlier source sentence.
 
+Only source sentences a reader would call sentences are link targets (``linkable``): not the
+lines of a table of contents (items under a heading named "Contents", or lines repeating one of
+the document's headings), and not short fragments without closing punctuation (a signature
+"Chief Executive", a label "Published: April 2025") or lines in capitals. Headings are never
+sentences (``summarize.segment``). Every sentence still counts towards the idf.
+
 Pure Python and numpy: fast enough for a 10,000-word source, no model needed.
 """
 
@@ -33,12 +39,20 @@ from scoring.base import Signature
 SECOND_SHARE = 0.6
 SECOND_FLOOR = 0.2
 
-_WORD = re.compile(r"[^\W_]+(?:['’.,][^\W_]+)*")
+# A line shorter than this that does not end a sentence is a fragment, not a sentence: a rule of
+# thumb (names, job titles, labels and dates run to 2-5 words), not tuned on data.
+FRAGMENT_WORDS = 6
+CONTENTS_TITLES = ("contents", "table of contents", "list of contents", "in this report", "in this document")
+
+WORD = re.compile(r"[^\W_]+(?:['’.,][^\W_]+)*")
+_CLOSES = re.compile(r"[.!?…:;][\"'”’)\]]*$")
+# a section number in front ("6.", "2.3", "iv)") or a page number or dot leader behind
+_NUMBERING = re.compile(r"^\s*(?:[0-9]+(?:\.[0-9]+)*[.)]?|[ivxlc]+[.)])\s+|(?:\s*\.{2,}|\s)\s*[0-9]+\s*$", re.I)
 
 
 def terms(sentence: str) -> list[str]:
     """Lowercased word unigrams, then bigrams (joined by a space), in order."""
-    words = _WORD.findall(sentence.lower())
+    words = WORD.findall(sentence.lower())
     return words + [f"{a} {b}" for a, b in zip(words, words[1:])]
 
 
@@ -67,14 +81,52 @@ def similarities(summary_sentences: Sequence[str], source_sentences: Sequence[st
     return summ @ src.T
 
 
-def align(summary_sentences: Sequence[str], source_sentences: Sequence[str]) -> list[list[int]]:
+def _bare(text: str) -> str:
+    """A heading or contents line without its numbering, page number, case and spacing."""
+    return " ".join(_NUMBERING.sub(" ", text).lower().split()).strip(" .:")
+
+
+def is_fragment(text: str) -> bool:
+    """A short line that does not end a sentence, or a line written in capitals."""
+    words = text.split()
+    if any(ch.isalpha() for ch in text) and not any(ch.islower() for ch in text) and len(words) > 1:
+        return True
+    return len(words) < FRAGMENT_WORDS and not _CLOSES.search(text.strip())
+
+
+def linkable(document, sentences) -> list[bool]:
+    """For each source sentence (``summarize.segment``'s, of ``document``), whether a link may
+    point at it: not a contents line and not a fragment (see the module docstring). When no
+    sentence qualifies (a document of short list items), every one does."""
+    headings = {_bare(b.text) for b in document.blocks if b.kind == "heading"} - {""}
+    under_contents, title = set(), None
+    for b, block in enumerate(document.blocks):
+        if block.kind == "heading":
+            title = _bare(block.text)
+        elif title in CONTENTS_TITLES:
+            under_contents.add(b)
+    out = []
+    for s in sentences:
+        contents = s.block in under_contents or _bare(s.text) in headings
+        out.append(not contents and not is_fragment(s.text))
+    return out if any(out) else [True] * len(out)
+
+
+def align(summary_sentences: Sequence[str], source_sentences: Sequence[str],
+          allowed: Sequence[bool] | None = None) -> list[list[int]]:
     """For each summary sentence, the indices of the one or two source sentences it draws on
-    (best first); an empty list when it shares no term with any source sentence."""
+    (best first); an empty list when it shares no term with any source sentence. ``allowed``
+    (parallel to the source sentences, e.g. ``linkable``'s answer) keeps the others out of the
+    answer; they still count towards the idf."""
     if not summary_sentences:
         return []
     if not source_sentences:
         return [[] for _ in summary_sentences]
     sims = similarities(summary_sentences, source_sentences)
+    if allowed is not None:
+        if len(allowed) != len(source_sentences):
+            raise ValueError(f"allowed lists {len(allowed)} source sentences, not {len(source_sentences)}")
+        sims[:, ~np.asarray(allowed, dtype=bool)] = 0.0
     out = []
     for row in sims:
         order = np.argsort(-row, kind="stable")
@@ -93,5 +145,6 @@ def align(summary_sentences: Sequence[str], source_sentences: Sequence[str]) -> 
 
 def signature() -> Signature:
     """The alignment rule, for the comparison report's settings."""
-    settings = {"similarity": "tfidf-cosine", "ngrams": "1-2", "second": SECOND_SHARE, "floor": SECOND_FLOOR}
+    settings = {"similarity": "tfidf-cosine", "ngrams": "1-2", "second": SECOND_SHARE, "floor": SECOND_FLOOR,
+                "skip": f"contents,fragments<{FRAGMENT_WORDS}"}
     return Signature.build("align", settings)

@@ -168,6 +168,9 @@ _reference_option = click.option(
 _budget_option = click.option(
     "--words", type=click.IntRange(min=1), default=None,
     help="Word budget: a candidate over it is flagged and ranked last.")
+_keywords_option = click.option(
+    "--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
+    help="How many key words to blank in the source.")
 
 
 def _indent(text: str, prefix: str) -> str:
@@ -183,8 +186,7 @@ def _progress(quiet: bool):
 @click.argument("summaries", nargs=-1, required=True)
 @_reference_option
 @_budget_option
-@click.option("--keywords", type=click.IntRange(min=1), default=CoverageConfig.keywords, show_default=True,
-              help="How many key words to blank in the source.")
+@_keywords_option
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
 @click.option("--csv", "as_csv", is_flag=True, help="Print the ranked table as CSV.")
 @click.option("--explain/--no-explain", default=True, show_default=True,
@@ -243,59 +245,76 @@ score.help = score.help.replace("{legend}", _indent(_report.legend(), "    ").ls
 @click.argument("candidates", nargs=-1, required=False)
 @_reference_option
 @_budget_option
+@_keywords_option
 @click.option("--html", "html_path", type=click.Path(dir_okay=False), default=None,
               help="Write the comparison page (one self-contained HTML file) to this path and print the path.")
 @click.option("--json", "as_json", is_flag=True, help="Print everything as JSON (for scripts).")
+@click.option("--csv", "as_csv", is_flag=True,
+              help="Print the ranked table and the key-word grid as one CSV (first column: section).")
 @click.option("--summaries", type=click.IntRange(0, len(RECIPES)), default=0, show_default=True,
-              help="Add boildown's own N best candidate summaries (at --words, default 150) to the comparison.")
+              help=f"Add boildown's own N best candidate summaries (at --words, default 150): it builds and "
+                   f"ranks {DEFAULT_CANDIDATES} (or N if more) and adds the N best, scored once.")
 @click.option("--any-language", is_flag=True, help="Compare text that does not look like English.")
-@click.option("-q", "--quiet", is_flag=True, help="No progress messages on stderr.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress messages or bars on stderr.")
 @_fail_on_model_error
-def compare_cmd(source, candidates, references, words, html_path, as_json, summaries, any_language, quiet):
+def compare_cmd(source, candidates, references, words, keywords, html_path, as_json, as_csv, summaries, any_language,
+                quiet):
     """Compare CANDIDATES (summaries of SOURCE) side by side.
 
     \b
     CANDIDATES are files (txt, md, html, pdf, docx), "-" for standard input,
     or a .jsonl file with one {"name": ..., "text": ...} per line.
 
-    Prints the ranked table and a grid of the source's key words against the
-    candidates (+ recovered with the summary, = known from the source's context
-    alone, - missed). --html writes a page that also shows the source with its
-    key words marked, and links every candidate sentence to the source sentences
-    it draws on.
+    Prints the ranked table, what put the first candidate above the second,
+    and a grid of the source's key words against the candidates (the state the
+    coverage check gave each, with a legend). --html writes a page that also
+    shows the candidates side by side with their key words marked, the
+    word-level differences of candidates that are drafts of one another, and
+    the source with every candidate sentence linked to the source sentences it
+    draws on.
 
     \b
     Example:
       boildown compare report.txt draft_a.txt draft_b.txt --words 150 --html cmp.html
     """
+    from scoring.evaluate import evaluator_for
     from summarize import compare as comparing
-    from summarize import report_html
+    from summarize import compare_text, report_html
+    from summarize.progress import Progress
     from summarize.reading import candidate_warnings, read_candidates, read_document
 
+    if as_json and as_csv:
+        raise click.UsageError("choose one of --json and --csv")
     if html_path:
         report_html.check_target(html_path)  # fail before minutes of scoring, not after
     if not candidates and not summaries:
         raise click.UsageError("give candidate summaries to compare, or --summaries N for boildown's own")
-    say = _progress(quiet)
-    document = _read_source(source, any_language)  # headings and lists for the page
+    say = Progress(quiet)
+    document = _read_source(source, any_language, say)  # headings and lists for the page
     stdin_text = click.get_text_stream("stdin").read() if "-" in candidates else None
     pairs = read_candidates(candidates, stdin_text)
     refs = [read_document(r).text for r in references]
-    provenance = None
+    evaluator = evaluator_for({"coverage": {"keywords": keywords}})
+    provenance, scored = None, None
     if summaries:
-        own, provenance = comparing.own_candidates(document, summaries, words, progress=say)
-        pairs += own
+        own = comparing.own_candidates(document, summaries, words, evaluator=evaluator, progress=say)
+        if own.notice:
+            say(f"notice: {own.notice}")
+        pairs += own.pairs
+        provenance, scored = own.provenance, own.scored
     for warning in candidate_warnings(document.text, pairs):
         say(warning)
-    result = comparing.compare(
-        document, pairs, references=refs, budget=words, progress=say, provenance=provenance, name=source
-    )
+    result = comparing.compare(document, pairs, references=refs, budget=words, evaluator=evaluator, progress=say,
+                               provenance=provenance, name=source, scored=scored)
+    say.finish()
     if html_path:
-        click.echo(str(report_html.write_html(result, html_path)), err=as_json)
+        click.echo(str(report_html.write_html(result, html_path)), err=as_json or as_csv)
     if as_json:
-        click.echo(comparing.to_json(result))
+        click.echo(compare_text.to_json(result))
+    elif as_csv:
+        click.echo(compare_text.to_csv(result), nl=False)
     elif not html_path:
-        click.echo(comparing.table(result))
+        click.echo(compare_text.table(result))
 
 
 from summarize import batch as _batch  # noqa: E402  (light: the models load in the workers)

@@ -1,42 +1,95 @@
 """Candidate summaries of one source side by side: the record behind the ``compare`` command.
 
-A ``Comparison`` holds everything the three renderings need (the terminal text and JSON here,
-the HTML page in ``report_html``): the source as a Document and as sentences, the key words
-the coverage scorer blanked, the ranked candidates with all their scores, and for each
-candidate sentence the source sentences it draws on: from the summarizer's provenance when
-given, otherwise found by tf-idf alignment (``summarize.align``).
+A ``Comparison`` holds everything the renderings need (terminal text, JSON and CSV in
+``compare_text``, the HTML page in ``report_html``): the source as a Document and as sentences,
+the key words the coverage scorer blanked, the ranked candidates with all their scores, and for
+each candidate sentence the source sentences it draws on: from the summarizer's provenance when
+given, otherwise found by tf-idf alignment (``summarize.align``, which points only at real
+sentences: no contents lines or fragments).
 
-The key-word grid shows, for each key word (by salience) and each candidate, the status the
-coverage scorer gave it: recovered with the summary, known from the source's context alone,
-or missed. The key-word set is chosen by the same call with the same settings as the coverage
-scorer's own (``choose_keywords`` with the evaluator's ``KeywordConfig``; cached), so the grid
-and the scores describe the same blanks.
+The key-word grid shows, for each key word (by salience) and each candidate, the state the
+coverage scorer gave it (``KeywordEvidence.status``). The key-word set is chosen by the same
+call with the same settings as the coverage scorer's own (``choose_keywords`` with the
+evaluator's ``KeywordConfig``; cached), so the grid and the scores describe the same blanks.
+The same states mark the key words in each candidate's sentences (``Comparison.marks``: a
+key word is found in a candidate by the forms it takes in the source, or by its Porter stem).
+``Comparison.separation`` says which component of the ranking put the first candidate above the
+second (``summarize.separation``);
+``Comparison.drafts`` holds the word-level differences of candidates that are drafts of one
+another (``summarize.drafts``).
 """
 
 from __future__ import annotations
 
 import functools
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from scoring.base import Signature
 from scoring.keywords import KeywordConfig, KeywordSet, choose_keywords
 from scoring.text import split_sentences
 from summarize import align as aligning
+from summarize import drafts as drafting
 from summarize.reading import Document, parse_text
 from summarize.segment import Sentence, segment
 
-STATES = ("recovered", "known", "missed")
 UNSCORED = "unscored"  # a key word with no scored blank (past the blank limit, or at offset 0)
-SYMBOLS = {"recovered": "+", "known": "=", "missed": "-", UNSCORED: "."}
 ORIGINS = ("provenance", "aligned")
 SETTINGS_ORDER = ("budget", "keywords", "keywords_chosen", "references", "source_words", "source_sentences",
                   "candidates", "combined", "alignment")
 
 
 @dataclass(frozen=True)
+class StateText:
+    """How the reports name a key-word state: a symbol for the terminal and CSV, one for the
+    page, a label and its meaning in plain words."""
+
+    symbol: str
+    mark: str
+    label: str
+    meaning: str
+
+
+# The one place the reports' legend words live (the terminal grid, the page's legend, the marks
+# in the candidates' sentences). The states themselves are the coverage scorer's; a meaning it
+# publishes in ``scoring.coverage.STATE_MEANINGS`` replaces the one written here (``state_text``).
+STATE_TEXT = {
+    "recovered": StateText("+", "+", "recovered",
+                           "The model fills in this blanked word when the summary is in front of the source, and "
+                           "not without it: the summary carries it."),
+    "known": StateText("=", "=", "known from context",
+                       "The model fills it in from the rest of the source even without the summary, so it tells "
+                       "little about the summary."),
+    "missed": StateText("-", "\u2212", "missed",
+                        "Even with the summary in front, the model cannot fill it in: the summary most likely "
+                        "leaves it out."),
+    UNSCORED: StateText(".", "\u00b7", "not scored",
+                        "The coverage check scored no blank of this word (its limit on blanks was reached first, "
+                        "or the word only opens the text); no evidence either way."),
+}
+STATE_ORDER = ("recovered", "known", "missed", UNSCORED)  # legend order; states not listed follow
+
+
+def state_text(state: str) -> StateText:
+    """The legend entry of a state (a state this module does not know gets its own name)."""
+    from scoring import coverage
+
+    ours = STATE_TEXT.get(state) or StateText("?", "?", state.replace("_", " "), "")
+    published = getattr(coverage, "STATE_MEANINGS", None) or {}
+    meaning = published.get(state) if isinstance(published, Mapping) else None
+    return replace(ours, meaning=meaning) if isinstance(meaning, str) and meaning else ours
+
+
+def present_states(states) -> list[str]:
+    """The states that occur, in legend order (only those: a legend lists nothing absent)."""
+    seen = set(states)
+    return [s for s in STATE_ORDER if s in seen] + sorted(seen - set(STATE_ORDER))
+
+
+@dataclass(frozen=True)
 class SentenceLinks:
-    """One candidate's sentences and, for each, the indices of the source sentences it draws on."""
+    """One candidate's sentences and, for each, the indices (from 0) of the source sentences it
+    draws on."""
 
     name: str
     sentences: tuple[str, ...]
@@ -50,12 +103,6 @@ class SentenceLinks:
             )
         if self.origin not in ORIGINS:
             raise ValueError(f"origin must be one of {ORIGINS}, got {self.origin!r}")
-
-    def to_dict(self) -> dict:
-        return {
-            "origin": self.origin,
-            "sentences": [{"text": t, "sources": list(s)} for t, s in zip(self.sentences, self.sources)],
-        }
 
 
 @dataclass(frozen=True)
@@ -73,6 +120,17 @@ class GridRow:
 
 
 @dataclass(frozen=True)
+class Mark:
+    """A key word found in a candidate's sentence: character span in the sentence, the key word
+    (lemma) and the state the coverage scorer gave it for that candidate."""
+
+    start: int
+    end: int
+    word: str
+    state: str
+
+
+@dataclass(frozen=True)
 class Comparison:
     """Ranked candidates of one source with their key-word evidence and sentence links."""
 
@@ -85,6 +143,7 @@ class Comparison:
     budget: int | None
     settings: dict = field(default_factory=dict, hash=False)
     signatures: tuple[Signature, ...] = ()
+    linkable: tuple[bool, ...] = ()  # per source sentence: may an aligned link point at it
 
     def __post_init__(self):
         object.__setattr__(self, "candidates", tuple(self.candidates))
@@ -112,6 +171,74 @@ class Comparison:
         """Key words that every candidate misses (by salience)."""
         return tuple(row.word for row in self.grid if row.missed_by_all)
 
+    @functools.cached_property
+    def marks(self) -> tuple[tuple[tuple[Mark, ...], ...], ...]:
+        """Per candidate (rank order), per sentence, the key words it names, each with the state
+        the grid gives it for that candidate."""
+        finder = KeywordFinder(self.keyword_set, self.source_text)
+        states = [{row.word: row.states[i] for row in self.grid} for i in range(len(self.candidates))]
+        return tuple(
+            tuple(tuple(Mark(s, e, w, states[i].get(w, UNSCORED)) for s, e, w in finder.find(text))
+                  for text in links.sentences)
+            for i, links in enumerate(self.links)
+        )
+
+    @functools.cached_property
+    def named(self) -> tuple[frozenset[str], ...]:
+        """Per candidate, the key words its text names."""
+        return tuple(frozenset(m.word for sentence in per for m in sentence) for per in self.marks)
+
+    def named_only_by(self, i: int) -> tuple[str, ...]:
+        """Key words candidate ``i`` names and no other candidate does (by salience)."""
+        others = set().union(*(n for j, n in enumerate(self.named) if j != i))
+        return tuple(row.word for row in self.grid if row.word in self.named[i] and row.word not in others)
+
+    @functools.cached_property
+    def drafts(self) -> tuple[drafting.DraftPair, ...]:
+        """Candidates that are drafts of one another, with their word-level differences."""
+        return drafting.draft_pairs([c.text for c in self.candidates])
+
+    @functools.cached_property
+    def separation(self):
+        """What put the first candidate above the second (``summarize.separation``), or None."""
+        from summarize.separation import separation
+
+        return separation(self.candidates)
+
+
+# --------------------------------------------------------------------------- key words in text
+
+
+class KeywordFinder:
+    """Finds the key words in any text: by the forms each takes in the source (its spans), by its
+    lemma, or by the Porter stem of a word of letters (summarize.embed.stem), so "cracked" in a
+    summary finds the key word "crack" even when the source only says "cracks"."""
+
+    def __init__(self, keyword_set: KeywordSet, source_text: str):
+        from summarize.embed import stem
+
+        self._stem = stem
+        self.forms: dict[str, str] = {}
+        for kw in keyword_set.keywords:
+            self.forms.setdefault(kw.lemma.lower(), kw.lemma)
+            for s, e in kw.spans:
+                self.forms.setdefault(source_text[s:e].lower(), kw.lemma)
+        self.stems = {stem(w): lemma for w, lemma in self.forms.items() if w.isalpha()}
+
+    def find(self, text: str) -> list[tuple[int, int, str]]:
+        """(start, end, key word) for every key word in ``text``, in order."""
+        out = []
+        for m in aligning.WORD.finditer(text):
+            word = m.group(0).lower()
+            end = m.end()
+            for tail in ("'s", "\u2019s"):
+                if word.endswith(tail) and len(word) > len(tail):
+                    word, end = word[: -len(tail)], end - len(tail)
+            lemma = self.forms.get(word) or (self.stems.get(self._stem(word)) if word.isalpha() else None)
+            if lemma is not None:
+                out.append((m.start(), end, lemma))
+        return out
+
 
 # --------------------------------------------------------------------------- building
 
@@ -126,14 +253,18 @@ def compare(
     progress: Callable[[str], None] | None = None,
     provenance: Mapping[str, Sequence[Sequence[int]]] | None = None,
     name: str | None = None,
+    scored: Mapping[str, Mapping[str, object]] | None = None,
 ) -> Comparison:
     """Score and rank (name, text) candidates of a source and link their sentences to it.
 
     ``source`` is text (parsed as plain text) or a Document (keeps its headings and lists);
     the scores are computed on ``Document.text``. ``provenance`` maps a candidate's name to,
-    per sentence of that candidate (as ``split_sentences`` splits it), the indices of the source
-    sentences (as ``segment`` numbers them) it came from; candidates without it are aligned by
-    tf-idf. ``evaluator`` defaults to the process-wide one. Duplicate names get " #2", " #3".
+    per sentence of that candidate (as ``split_sentences`` splits it), the indices (from 0) of
+    the source sentences (as ``segment`` numbers them) it came from; candidates without it are
+    aligned by tf-idf. ``scored`` maps a candidate's text to results this evaluator already
+    computed for it on this source (by scorer name; ``own_candidates`` gives them): they are
+    reused, not computed again. ``evaluator`` defaults to the process-wide one. Duplicate names
+    get " #2", " #3".
     """
     from scoring.evaluate import default_evaluator
 
@@ -147,7 +278,9 @@ def compare(
     sentences = tuple(segment(document))
     _check_provenance(provenance, pairs, len(sentences))
     evaluator = evaluator or default_evaluator()
-    ranked = evaluator.evaluate(pairs, source=document.text, references=references, budget=budget, progress=progress)
+    known = [(scored or {}).get(text) for _, text in pairs]
+    ranked = evaluator.evaluate(pairs, source=document.text, references=references, budget=budget, progress=progress,
+                                scored=known if any(known) else None)
     keyword_set = choose_keywords(document.text, KeywordConfig(count=evaluator.config.coverage.keywords))
     refs = [r for r in (references or []) if r and r.strip()]
     combine = evaluator.config.combine
@@ -180,6 +313,7 @@ def assemble(
     """Build a Comparison from candidates already scored and ranked (no model is run here)."""
     sentences = tuple(sentences) if sentences is not None else tuple(segment(document))
     source_texts = [s.text for s in sentences]
+    linkable = tuple(aligning.linkable(document, sentences))
     provenance = provenance or {}
     _check_provenance(provenance, [(c.name, c.text) for c in ranked], len(sentences))
     links = []
@@ -189,7 +323,7 @@ def assemble(
             sources = tuple(tuple(int(i) for i in s) for s in provenance[c.name])
             origin = "provenance"
         else:
-            sources = tuple(tuple(s) for s in aligning.align(own, source_texts))
+            sources = tuple(tuple(s) for s in aligning.align(own, source_texts, linkable))
             origin = "aligned"
         links.append(SentenceLinks(c.name, tuple(own), sources, origin))
     all_settings = {
@@ -213,24 +347,42 @@ def assemble(
         budget=budget,
         settings=all_settings,
         signatures=_signatures(ranked) + tuple(extra_signatures) + (aligning.signature(),),
+        linkable=linkable,
     )
 
 
-def own_candidates(document: Document, n: int, words: int | None,
-                   progress: Callable[[str], None] | None = None) -> tuple[list[tuple[str, str]], dict]:
-    """boildown's own ``n`` candidate summaries of ``document`` (at ``words``, 150 by default)
-    as (name, text) pairs named "boildown:<recipe>", with their provenance (per sentence, the
-    source sentence it came from) where each summary sentence is one sentence of the split."""
-    from summarize.pipeline import DEFAULT_WORDS, summarize
+@dataclass(frozen=True)
+class OwnCandidates:
+    """boildown's own candidates for a comparison: (name, text) pairs, their provenance, and the
+    results the summarizer already computed for them (by text, for ``compare(scored=...)``)."""
 
-    own = summarize(document, words or DEFAULT_WORDS, candidates=max(n, 1), progress=progress)
-    pairs, provenance = [], {}
-    for draft, _ in own.candidates[:n]:
+    pairs: tuple[tuple[str, str], ...]
+    provenance: dict
+    scored: dict
+    built: int  # how many candidates were built and ranked to choose them from
+    notice: str | None = None
+
+
+def own_candidates(document: Document, n: int, words: int | None, *, evaluator=None,
+                   progress: Callable[[str], None] | None = None, built: int | None = None) -> OwnCandidates:
+    """boildown's ``n`` best candidate summaries of ``document`` (at ``words``, 150 by default),
+    chosen from ``built`` (the summarizer's default number, or ``n`` when larger) that the
+    summarizer builds and ranks, named "boildown:<recipe>", with their provenance (per sentence,
+    the source sentence it came from) where each summary sentence is one sentence of the split.
+    Give the evaluator the comparison will use, so that their scores can be reused."""
+    from summarize.pipeline import DEFAULT_WORDS, summarize
+    from summarize.recipes import DEFAULT_CANDIDATES
+
+    wanted = max(n, built or DEFAULT_CANDIDATES, 1)
+    own = summarize(document, words or DEFAULT_WORDS, candidates=wanted, progress=progress, evaluator=evaluator)
+    pairs, provenance, scored = [], {}, {}
+    for draft, scores in own.candidates[:n]:
         name = f"boildown:{draft.recipe}"
         pairs.append((name, draft.text))
+        scored[draft.text] = dict(scores.scores)
         if len(split_sentences(draft.text)) == len(draft.sentences):
             provenance[name] = [[s.source] for s in draft.sentences]
-    return pairs, provenance
+    return OwnCandidates(tuple(pairs), provenance, scored, len(own.candidates), own.notice)
 
 
 def sentence_id(index: int) -> str:
@@ -290,81 +442,10 @@ def _alignment_note(links) -> str:
     origins = {l.origin for l in links}
     rule = (
         f"tf-idf cosine over word 1-2 grams; a second sentence when >= {aligning.SECOND_SHARE:g} x best "
-        f"and >= {aligning.SECOND_FLOOR:g}"
+        f"and >= {aligning.SECOND_FLOOR:g}; contents lines and fragments are never linked"
     )
     if origins == {"provenance"}:
         return "recorded by the summarizer"
     if "provenance" in origins:
         return f"recorded by the summarizer where known; otherwise {rule}"
     return rule
-
-
-# --------------------------------------------------------------------------- rendering
-
-
-def grid_text(comparison: Comparison) -> str:
-    """The key-word grid for a terminal: rows key words, columns candidates by rank."""
-    rows = comparison.grid
-    cols = [f"#{c.rank}" for c in comparison.candidates]
-    if not rows:
-        return "key words: none were chosen (the source has no content words to blank)"
-    width = max(len("key word"), *(len(r.word) for r in rows))
-    widths = [max(3, len(h)) for h in cols]
-    line = lambda first, cells: "  ".join([first.ljust(width)] + [c.center(w) for c, w in zip(cells, widths)]).rstrip()
-    out = [line("key word", cols), line("-" * width, ["-" * w for w in widths])]
-    for r in rows:
-        out.append(line(r.word, [SYMBOLS[s] for s in r.states]))
-    out.append("")
-    out.append("+ recovered with the summary   = known from the source's context alone   - missed")
-    if any(UNSCORED in r.states for r in rows):
-        out.append(". not scored (no blank of this word was scored: the blank limit came first, or it opens the text)")
-    out.append("columns are the candidates by rank, as in the table above")
-    missed = comparison.missed_by_all
-    out.append(f"missed by every candidate ({len(missed)}): {', '.join(missed) if missed else 'none'}")
-    return "\n".join(out)
-
-
-def table(comparison: Comparison) -> str:
-    """The whole terminal report: ranked table, key-word grid, notes, signatures, caution."""
-    from summarize import report
-
-    ranked = list(comparison.candidates)
-    parts = [
-        f"source: {comparison.source_name} ({comparison.document.word_count} words)"
-        + (f", budget {comparison.budget} words" if comparison.budget else ""),
-        "",
-        report.table(ranked),
-        "",
-        grid_text(comparison),
-        "",
-        report.explanations(ranked),
-        "",
-        "\n".join(str(s) for s in comparison.signatures),
-        report.CAUTION,
-    ]
-    return "\n".join(parts)
-
-
-def to_json(comparison: Comparison) -> str:
-    """Everything as JSON: report.to_json's candidates plus key words, grid and sentence links."""
-    from summarize import report
-
-    names = [c.name for c in comparison.candidates]
-    return report.to_json(
-        list(comparison.candidates),
-        source=comparison.source_name,
-        source_words=comparison.document.word_count,
-        budget=comparison.budget,
-        settings=comparison.settings,
-        signatures=[s.to_dict() for s in comparison.signatures],
-        keywords=[
-            {"word": r.word, "salience": r.salience, "occurrences": r.occurrences, "states": dict(zip(names, r.states))}
-            for r in comparison.grid
-        ],
-        missed_by_every_candidate=list(comparison.missed_by_all),
-        source_sentences=[
-            {"index": s.index, "id": sentence_id(s.index), "text": s.text, "block": s.block, "section": s.section}
-            for s in comparison.source_sentences
-        ],
-        links={l.name: l.to_dict() for l in comparison.links},
-    )

@@ -19,6 +19,7 @@ CAUTION = (
 )
 
 IDENTITY = ("rank", "name", "words", "budget", "over_budget")
+UNIT_KINDS = ("pct", "num2", "num3", "num4")  # kinds whose values lie on the 0-1 scale
 COMBINED = Column("combined", lambda c: c.combined, "num3", "combined", "Combined")
 
 
@@ -34,6 +35,14 @@ def columns(candidates) -> list[Column]:
     out.append((None, COMBINED))
     out += [(name, col) for name in after for col in registry.scorer_class(name).columns]
     return [_Bound(name, col) for name, col in out]
+
+
+def ranking_columns(candidates) -> list["_Bound"]:
+    """The shown columns that decide the ranking, in table order: those of every scorer that reads
+    the source or the pool, and the candidate's own totals (the combined score). All lie on the
+    0-1 scale (the page's chart draws them); scores against references only inform."""
+    return [col for col in columns(candidates) if col.shown(candidates) and col.kind in UNIT_KINDS
+            and (col.scorer is None or registry.scorer_class(col.scorer).needs != "references")]
 
 
 class _Bound:

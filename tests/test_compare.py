@@ -26,7 +26,7 @@ from scoring.keywords import Keyword, KeywordConfig, KeywordSet, text_hash
 from scoring.reference import BertScore, RougeScore
 from summarize import align as aligning
 from summarize import compare as comparing
-from summarize import reading, report_html
+from summarize import compare_text, reading, report_html
 from summarize.cli import main
 from summarize.reading import parse_text, read_document
 from scoring.text import count_words, split_sentences
@@ -145,9 +145,9 @@ class FakeEvaluator:
         self.config = EvalConfig(coverage=CoverageConfig(keywords=keywords), combine=base.combine)
         self.calls = []
 
-    def evaluate(self, candidates, *, source, references=None, budget=None, progress=None):
+    def evaluate(self, candidates, *, source, references=None, budget=None, progress=None, scored=None):
         self.calls.append({"names": [n for n, _ in candidates], "source": source, "references": references,
-                           "budget": budget})
+                           "budget": budget, "scored": scored})
         states = {"good.txt": GOOD_STATES, "weak.txt": WEAK_STATES}
         out = [fake_candidate(n, t, states.get(n, WEAK_STATES), share=0.62 if n == "good.txt" else 0.1, fluency=0.8,
                               budget=budget, references=bool(references)) for n, t in candidates]
@@ -216,7 +216,8 @@ def test_align_degenerate_inputs():
 
 
 def test_align_signature_names_the_rule():
-    assert str(aligning.signature()).startswith("align(similarity=tfidf-cosine, ngrams=1-2, second=0.6, floor=0.2) on boildown ")
+    assert str(aligning.signature()).startswith(
+        'align(similarity=tfidf-cosine, ngrams=1-2, second=0.6, floor=0.2, skip="contents,fragments<6") on boildown ')
 
 
 # --------------------------------------------------------------------------- the Comparison
@@ -305,7 +306,10 @@ def test_candidate_warnings():
 
 def test_grid_text_exact():
     # expected text written by hand from GOOD_STATES / WEAK_STATES above
-    assert comparing.grid_text(fake_comparison()).splitlines() == [
+    lines = compare_text.grid_text(fake_comparison()).splitlines()
+    legend = [f"{comparing.STATE_TEXT[s].symbol} {comparing.STATE_TEXT[s].label}: {comparing.STATE_TEXT[s].meaning}"
+              for s in ("recovered", "known", "missed", comparing.UNSCORED)]
+    assert lines == [
         "key word    #1   #2",
         "---------  ---  ---",
         "greyling    +    -",
@@ -316,31 +320,44 @@ def test_grid_text_exact():
         "resin       -    -",
         "outlet      .    .",
         "",
-        "+ recovered with the summary   = known from the source's context alone   - missed",
-        ". not scored (no blank of this word was scored: the blank limit came first, or it opens the text)",
+        *legend,  # every state occurs in this grid, so each has its line, in legend order
         "columns are the candidates by rank, as in the table above",
         "missed by every candidate (1): resin",
     ]
 
 
 def test_table_has_every_part():
-    text = comparing.table(fake_comparison(references=True))
+    text = compare_text.table(fake_comparison(references=True))
     assert text.startswith("source: source.md (175 words), budget 60 words")
     for part in ("candidate", "R-Lsum", "good.txt", "greyling", "missed by every candidate (1): resin",
+                 "first and second: good.txt ranks above weak.txt on Combined",
                  "flagged sentence (reads poorly)", "coverage(model=fake", "align(similarity=tfidf-cosine", "qualified person"):
         assert part in text
 
 
 def test_json_structure():
-    data = json.loads(comparing.to_json(fake_comparison(references=True)))
+    data = json.loads(compare_text.to_json(fake_comparison(references=True)))
     assert {"source", "source_words", "budget", "settings", "signatures", "keywords", "missed_by_every_candidate",
-            "source_sentences", "links", "candidates", "caution"} <= set(data)
+            "source_sentences", "links", "candidates", "caution", "separated", "drafts"} <= set(data)
     assert data["source"] == "source.md" and data["source_words"] == 175 and data["budget"] == 60
     assert data["keywords"][0] == {"word": "greyling", "salience": 10.0, "occurrences": 4,
                                    "states": {"good.txt": "recovered", "weak.txt": "missed"}}
     assert data["missed_by_every_candidate"] == ["resin"]
-    assert data["source_sentences"][0]["index"] == 0 and data["source_sentences"][0]["id"] == "s-1"
-    assert data["links"]["good.txt"]["origin"] == "aligned"
+    # sentence numbers count from 1 in the JSON, as on the page ("s-1" is sentence 1)
+    assert data["source_sentences"][0]["number"] == 1 and data["source_sentences"][0]["id"] == "s-1"
+    assert "index" not in data["source_sentences"][0]
+    good = data["links"]["good.txt"]
+    assert good["origin"] == "aligned" and [s["number"] for s in good["sentences"]] == [1, 2]
+    # the crack is source sentence 2 (index 1) and the quote sentence 6 (index 5), read off the fixture
+    assert 2 in good["sentences"][0]["source_numbers"] and 6 in good["sentences"][1]["source_numbers"]
+    page = report_html.render_html(fake_comparison(references=True))
+    for s in good["sentences"]:
+        for number in s["source_numbers"]:
+            assert f'<a href="#s-{number}" aria-label="source sentence {number}">{number}</a>' in page
+    assert good["sentences"][1]["keywords"][:2] == [{"word": "cofferdam", "state": "recovered"},
+                                                    {"word": "resin", "state": "missed"}]
+    assert data["separated"]["first"] == "good.txt" and data["separated"]["reason"] == "score"
+    assert data["drafts"] == []
     assert [c["name"] for c in data["candidates"]] == ["good.txt", "weak.txt"]
     assert data["candidates"][0]["rouge"]["scores"]["rougeLsum"]["f1"] == 0.38
     assert [s["name"] for s in data["signatures"]][-2:] == ["combined", "align"]
@@ -425,8 +442,9 @@ def test_page_structure_and_accessibility():
     assert names.count("table") == 2 and names.count("caption") == 2
     col_heads = [a for t, a in tags.tags if t == "th" and a.get("scope") == "col"]
     assert len(col_heads) == 10 + 2 + 2 + 1  # ranking with references; grid: word, count, 2 candidates, missed by all
-    svg = next(a for t, a in tags.tags if t == "svg")
-    assert svg["role"] == "img" and svg["aria-label"] and {"title", "desc", "text", "rect"} <= set(names)
+    svg = next(a for t, a in tags.tags if t == "svg" and a.get("role") == "img")  # the chart (legend keys are hidden)
+    assert svg["aria-labelledby"] == "chart-title chart-desc" and {"title", "desc", "text", "rect"} <= set(names)
+    assert all(a.get("aria-hidden") == "true" for t, a in tags.tags if t == "svg" and a.get("role") != "img")
     assert page.index('class="skip" href="#main"') < page.index("<header")
     assert ":focus-visible" in page and "outline: 3px solid" in page
     # print: no backgrounds needed, link targets not written out, rows kept whole
@@ -530,7 +548,14 @@ def fake_cli(monkeypatch, fake_keywords):
     import scoring.evaluate
 
     evaluator = FakeEvaluator()
-    monkeypatch.setattr(scoring.evaluate, "default_evaluator", lambda: evaluator)
+    asked = []
+
+    def evaluator_for(options=None):
+        asked.append(options)
+        return evaluator
+
+    monkeypatch.setattr(scoring.evaluate, "evaluator_for", evaluator_for)
+    evaluator.options = asked
     return evaluator
 
 
