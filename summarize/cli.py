@@ -178,7 +178,10 @@ def _indent(text: str, prefix: str) -> str:
 
 
 def _progress(quiet: bool):
-    return (lambda _m: None) if quiet else (lambda m: click.echo(f"boildown: {m}", err=True))
+    """Messages on stderr, and on a terminal a bar with a step per candidate for each long stage."""
+    from summarize.progress import Progress
+
+    return Progress(quiet)
 
 
 @main.command()
@@ -280,7 +283,6 @@ def compare_cmd(source, candidates, references, words, keywords, html_path, as_j
     from scoring.evaluate import evaluator_for
     from summarize import compare as comparing
     from summarize import compare_text, report_html
-    from summarize.progress import Progress
     from summarize.reading import candidate_warnings, read_candidates, read_document
 
     if as_json and as_csv:
@@ -289,7 +291,7 @@ def compare_cmd(source, candidates, references, words, keywords, html_path, as_j
         report_html.check_target(html_path)  # fail before minutes of scoring, not after
     if not candidates and not summaries:
         raise click.UsageError("give candidate summaries to compare, or --summaries N for boildown's own")
-    say = Progress(quiet)
+    say = _progress(quiet)
     document = _read_source(source, any_language, say)  # headings and lists for the page
     stdin_text = click.get_text_stream("stdin").read() if "-" in candidates else None
     pairs = read_candidates(candidates, stdin_text)

@@ -43,7 +43,7 @@ class Summary:
             "notice": self.notice,
             "settings": self.settings,
             "sentences": [
-                {"text": s.text, "source_sentence": s.source, "deleted": list(s.deleted), "cut": s.cut}
+                {"text": s.text, "source_number": s.source + 1, "deleted": list(s.deleted), "cut": s.cut}
                 for s in self.sentences
             ],
             "scores": _scores(self.scores),
@@ -51,7 +51,7 @@ class Summary:
         if with_candidates:
             out["candidates"] = [
                 {"recipe": d.recipe, "rank": c.rank, "words": c.words, "text": d.text, "scores": _scores(c),
-                 "sentences": [{"text": s.text, "source_sentence": s.source, "deleted": list(s.deleted)} for s in d.sentences]}
+                 "sentences": [{"text": s.text, "source_number": s.source + 1, "deleted": list(s.deleted)} for s in d.sentences]}
                 for d, c in self.candidates
             ]
         return out

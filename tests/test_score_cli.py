@@ -32,7 +32,7 @@ def test_table_json_and_csv(files):
     args = ["score", str(files["source.txt"]), str(files["weak.txt"]), str(files["good.txt"]), "--words", "17", "-q"]
     result = runner.invoke(main, args)
     assert result.exit_code == 0, result.output
-    assert "still missed" in result.stdout and "coverage|model:" in result.stdout and "estimates" in result.stdout
+    assert "still missed" in result.stdout and "coverage(model=" in result.stdout and "estimates" in result.stdout
     data = json.loads(runner.invoke(main, args + ["--json"]).stdout)
     ranked = [c["name"] for c in data["candidates"]]
     assert ranked[0] == "weak.txt"  # good.txt is 18 words for a budget of 17: over budget ranks last

@@ -260,7 +260,8 @@ def test_summarize_command_plain_and_json(tmp_path):
     data = json.loads(out.read_text())
     assert data["words"] == count_words(data["summary"]) <= 100
     assert data["scores"]["signatures"]["coverage"]["name"] == "coverage"
-    assert all(isinstance(s["source_sentence"], int) for s in data["sentences"])
+    # sentence numbers count from 1, as on the comparison page and in compare --json
+    assert all(isinstance(s["source_number"], int) and s["source_number"] >= 1 for s in data["sentences"])
     assert len(data["candidates"]) >= 1
 
 
