@@ -27,12 +27,12 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from bench.common import DATA, need, save  # noqa: E402
 
 
-def summeval_rows(docs: int | None) -> tuple[list[dict], dict]:
+def summeval_rows(docs: int | None, references: int | None = None) -> tuple[list[dict], dict]:
     rows = [json.loads(line) for line in open(need(DATA / "summeval" / "dev.jsonl"), encoding="utf-8")]
     ids = sorted({r["doc_id"] for r in rows})[:docs] if docs else None
     rows = [r for r in rows if ids is None or r["doc_id"] in ids]
     out = [{"id": r["doc_id"], "system": r["system_id"], "summary": r["summary"], "source": r["source"],
-            "references": r["references"]} for r in rows]
+            "references": r["references"][:references] if references is not None else r["references"]} for r in rows]
     human = {(r["doc_id"], r["system_id"]): {k: r[k] for k in ("relevance", "fluency", "coherence", "consistency")}
              for r in rows}
     return out, human
@@ -129,11 +129,15 @@ def main(argv=None):
     parser.add_argument("--workers", default="1,2", help="local worker counts to time, e.g. 1,2")
     parser.add_argument("--realsumm-docs", type=int, default=10, help="REALSumm documents (0: skip)")
     parser.add_argument("--cost-sources", type=int, default=3, help="sources timed for the extra-summary cost")
+    parser.add_argument("--references", type=int, default=None,
+                        help="references per SummEval row (default all 11; 0: reference-free scores only)")
     parser.add_argument("--name", default="assess_bench")
     args = parser.parse_args(argv)
 
-    rows, human = summeval_rows(args.docs)
-    payload = {"summeval": {"documents": len({r["id"] for r in rows}), "rows": len(rows), "runs": []}}
+    rows, human = summeval_rows(args.docs, args.references)
+    payload = {"summeval": {"documents": len({r["id"] for r in rows}), "rows": len(rows), "runs": [],
+                            "references_per_row": args.references if args.references is not None else 11},
+               "command": "bench/assess_bench.py " + " ".join(sys.argv[1:] if argv is None else argv)}
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
         for workers in [int(w) for w in args.workers.split(",") if w]:
@@ -141,12 +145,14 @@ def main(argv=None):
             payload["summeval"]["runs"].append({"workers": workers, "seconds": round(seconds, 1),
                                                 "rows_per_minute": round(60 * result.scored / seconds, 2),
                                                 "scored": result.scored, "failed": result.failed})
+            save(args.name, payload)  # what is measured so far survives an interrupted run
             print(f"SummEval dev {len(rows)} rows, {workers} worker(s): {seconds:.1f} s, "
                   f"{60 * result.scored / seconds:.1f} rows per minute, failed {result.failed}", flush=True)
         payload["summeval"]["tau"] = taus(result.table, records, human,
                                           [("coverage", "relevance"), ("combined", "relevance"),
                                            ("fluency", "fluency"), ("rouge2", "relevance")])
         payload["summeval"]["systems"] = {s: round(m, 4) for s, m in result.table.means().items()}
+        save(args.name, payload)
         if args.realsumm_docs:
             rrows, rhuman = realsumm_rows(args.realsumm_docs)
             result, seconds, records = run(rrows, max(int(w) for w in args.workers.split(",")), folder, "realsumm")
