@@ -75,7 +75,7 @@ def taus(table, records: list[dict], human: dict, pairs: list[tuple[str, str]], 
     from summarize.assess import stats
 
     out = {}
-    for metric, rating in pairs:
+    for metric, rating in [(m, r) for m, r in pairs if m in table.metrics]:
         by_system_h = stats.system_means((name_of(r["system"]), human[(r["id"], r["system"])][rating])
                                          for r in records if r["status"] == "scored")
         means = defaultdict(list)
