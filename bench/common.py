@@ -23,10 +23,11 @@ def need(path: Path) -> Path:
 
 
 def kendall(a, b) -> float:
-    """Kendall tau-b (scipy), NaN when either side is constant."""
-    from scipy.stats import kendalltau
+    """Kendall tau-b (scipy), NaN when either side is constant: ``summarize.assess.stats.kendall``,
+    the one the assess command's tables use."""
+    from summarize.assess.stats import kendall as shared
 
-    return float(kendalltau(a, b).statistic)
+    return shared(a, b)
 
 
 def save(name: str, payload: dict) -> Path:

@@ -15,7 +15,6 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
-import math
 import re
 import sys
 import time
@@ -23,7 +22,7 @@ from collections import defaultdict
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from bench.common import DATA, kendall, need, save  # noqa: E402
+from bench.common import DATA, need, save  # noqa: E402
 
 
 def clean(text: str) -> str:
@@ -40,24 +39,13 @@ def load(limit: int | None):
 
 
 def correlations(docs, values: dict[tuple, float]) -> tuple[float, float]:
-    per_doc = []
-    for doc_id, rows in docs.items():
-        human = [r["scores"]["litepyramid_recall"] for r in rows]
-        metric = [values[(doc_id, k)] for k in range(len(rows))]
-        tau = kendall(human, metric)
-        if not math.isnan(tau):
-            per_doc.append(tau)
-    by_system_h, by_system_m = defaultdict(list), defaultdict(list)
-    for doc_id, rows in docs.items():
-        for k, r in enumerate(rows):
-            by_system_h[r["system"]].append(r["scores"]["litepyramid_recall"])
-            by_system_m[r["system"]].append(values[(doc_id, k)])
-    systems = sorted(by_system_h)
-    sys_tau = kendall(
-        [sum(by_system_h[s]) / len(by_system_h[s]) for s in systems],
-        [sum(by_system_m[s]) / len(by_system_m[s]) for s in systems],
-    )
-    return sum(per_doc) / len(per_doc), sys_tau
+    """(summary-level, system-level) tau through summarize.assess.stats, the code path the assess
+    command's per-system means go through (systems grouped by name: 24 names for 25 systems)."""
+    from summarize.assess import stats
+
+    rows = [(doc_id, r["system"], r["scores"]["litepyramid_recall"], values[(doc_id, k)])
+            for doc_id, found in docs.items() for k, r in enumerate(found)]
+    return stats.summary_level_tau(rows), stats.system_level_tau(rows)
 
 
 def main(argv=None):

@@ -526,6 +526,37 @@ def compare_speed(d: dict) -> list[str]:
     return out + [""]
 
 
+def assess(d: dict) -> list[str]:
+    se = d["summeval"]
+    refs = se.get("references_per_row", 11)
+    out = [f"`boildown assess` on SummEval dev ({se['documents']} articles x 16 systems = {se['rows']} rows, "
+           f"{refs} reference(s) per row; {when(d)}, `{PYTHON} {d.get('command', 'bench/assess_bench.py')}`); "
+           "wall time includes starting the workers and loading the models:", "",
+           "| workers | seconds | rows per minute |", "|---|---|---|"]
+    out += [f"| {r['workers']} | {r['seconds']:.1f} | {r['rows_per_minute']:.1f} |" for r in se["runs"]]
+    cost = d.get("extra_summary_cost")
+    if cost:
+        out += ["", f"Each further summary of one source costs **{cost['ratio']:.2f}x** the first (target at most "
+                f"0.25x): first {cost['first_s']:.2f} s with the source-side work, then {cost['further_each_s']:.2f} s "
+                f"each ({cost['summaries_per_source']} summaries of a source together, median over "
+                f"{cost['sources']} source(s), models loaded)."]
+    rows = [("SummEval dev", k, v) for k, v in se.get("tau", {}).items()]
+    if "realsumm" in d:
+        rows += [(f"REALSumm ({d['realsumm']['documents']} docs, reference as source)", k, v)
+                 for k, v in d["realsumm"]["tau"].items()]
+    if rows:
+        out += ["", "Kendall tau with people's ratings: system level from assess's table and through the "
+                "validity benches' code path (`summarize/assess/stats.py`), which must be equal, and summary "
+                "level:", "", "| data | score vs rating | system (table) | system (bench path) | summary level |",
+                "|---|---|---|---|---|"]
+        out += [f"| {data} | {k} | {v['system_level_from_table']:.3f} | {v['system_level_bench_path']:.3f} | "
+                f"{v['summary_level']:.3f} |" for data, k, v in rows]
+        if se["documents"] < 50:
+            out += ["", f"Only {se['documents']} of the 50 articles were run (a loaded machine): these taus are "
+                    "a check of the code path, not a validity figure."]
+    return out + [""]
+
+
 SECTIONS = (
     Section("Coverage against human judgements (REALSumm)", "coverage_validity", "bench/coverage_validity.py",
             coverage_validity),
@@ -543,5 +574,6 @@ SECTIONS = (
     Section("The word budget", "budget_check", "bench/budget_check.py", budget),
     Section("Batch throughput", "batch_speed", "bench/batch_speed.py", batch),
     Section("The editor's comparison against scoring", "compare_speed", "bench/compare_speed.py", compare_speed),
+    Section("Assessing systems", "assess_bench", "bench/assess_bench.py", assess),
 )
 """The page's sections, in order (later ones refer to earlier ones as "above")."""

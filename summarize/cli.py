@@ -381,5 +381,74 @@ def batch_cmd(input_dir, out_dir, words, ratio, candidates, include, exclude, wo
                       f"{result.manifest}")
 
 
+@main.command(name="assess")
+@click.argument("rows", type=click.Path(exists=True))
+@click.option("--out", "out_dir", required=True, type=click.Path(file_okay=False),
+              help="Folder for results.jsonl/.csv, systems.txt/.csv/.json and systems.svg/.png (created when missing).")
+@_keywords_option
+@click.option("--metric", type=click.Choice(("combined", "coverage", "fluency")), default="combined", show_default=True,
+              help="The score the systems are ranked and compared by.")
+@click.option("--test", "test", type=click.Choice(("paired-bootstrap", "randomisation")), default="paired-bootstrap",
+              show_default=True, help="Paired test between systems: Koehn (2004) or Riezler & Maxwell (2005).")
+@click.option("--samples", type=click.IntRange(min=1), default=1000, show_default=True,
+              help="Bootstrap resamples (and randomisation shuffles).")
+@click.option("--seed", type=int, default=0, show_default=True, help="Seed of the resampling (recorded).")
+@click.option("--workers", type=click.IntRange(min=1), default=None,
+              help=f"Worker processes, each loading the models once [default: the cores, at most "
+                   f"{_batch.MAX_DEFAULT_WORKERS}].")
+@click.option("--force", is_flag=True, help="Score rows already scored again.")
+@click.option("--engine", type=click.Choice(_batch.ENGINES), default="local", show_default=True,
+              help="local: worker processes on this machine; dask: a Dask cluster (with --scheduler).")
+@click.option("--scheduler", metavar="ADDRESS", default=None, help="The Dask scheduler for --engine dask.")
+@click.option("--any-language", is_flag=True, help="Score sources that do not look like English.")
+@click.option("--json", "as_json", is_flag=True, help="Print the tally and the table as JSON.")
+@click.option("-q", "--quiet", is_flag=True, help="No progress bar or messages on stderr.")
+@click.option("--job", "job_spec", default="assess", hidden=True)
+@_fail_on_model_error
+def assess_cmd(rows, out_dir, keywords, metric, test, samples, seed, workers, force, engine, scheduler, any_language,
+               as_json, quiet, job_spec):
+    """Score existing summaries of many documents by many systems, and compare the systems.
+
+    \b
+    ROWS is a JSON-lines file, one {"id", "system", "summary", "source" or
+    "source_path", "references"?} a line, or a folder with sources/<doc>.*
+    and systems/<system>/<doc>.* (see docs/ASSESS.md). Each system gets a
+    mean per score with a 95% bootstrap interval over documents, and every
+    two systems a paired test over the documents both have. Run the same
+    command again to resume: rows already scored are skipped. Exits
+    non-zero when any row failed (one line each in results.csv).
+
+    \b
+    Example:
+      boildown assess rows.jsonl --out assessed/
+    """
+    from summarize import assess
+
+    config = assess.AssessConfig(keywords=keywords, workers=workers, engine=engine, scheduler=scheduler, force=force,
+                                 any_language=any_language, samples=samples, seed=seed, test=test, metric=metric)
+    try:
+        result = assess.run_assess(rows, out_dir, config, job=assess.job_from_spec(job_spec),
+                                   progress=_progress(quiet), bar=not quiet)
+    except assess.AssessInterrupted as stop:
+        click.echo(assess.tally_text(stop.result))
+        click.echo("boildown: interrupted; run the same command again to resume", err=True)
+        sys.exit(130)
+    except _batch.BatchError as exc:
+        raise Failure(str(exc)) from None
+    if as_json:
+        payload = {"tally": result.to_dict(), "table": result.table.to_dict() if result.table else None}
+        click.echo(json.dumps(payload, indent=2))
+    else:
+        from summarize.assess import table
+
+        if result.table is not None:
+            click.echo(table.text(result.table))
+            click.echo("")
+        click.echo(assess.tally_text(result))
+    if result.failed:
+        raise Failure(f"{result.failed} of {result.total} row(s) failed; the reasons are above and in "
+                      f"{result.files['results CSV']}")
+
+
 if __name__ == "__main__":
     main()

@@ -9,7 +9,10 @@ process (``prepare_once``), with the CPU threads the engine gives the worker.
 Jobs: ``SummarizeJob`` (the real summarizer) and ``LeadJob`` (a model-free stand-in for tests
 and rehearsals). A job is a picklable callable ``job(document, settings) -> JobResult`` with a
 ``name``, ``check()`` (fail fast in the parent) and ``prepare(threads)`` (load in the worker);
-it may name its code (``code()``), which then joins the settings.
+it may name its code (``code()``), which then joins the settings. A task that carries
+``inputs`` (what the job reads besides the document) is run as ``job(document, settings,
+inputs)``: ``summarize.assess.job.AssessJob`` scores the given summaries of one source so and
+returns their results in ``JobResult.rows``; its ``verb`` ("scored") words the failures.
 """
 
 from __future__ import annotations
@@ -37,6 +40,8 @@ class Task:
     settings: dict  # BatchConfig.settings(job)
     any_language: bool = False
     threads: int | None = None  # CPU threads for the worker's models; None: as prepared already
+    inputs: dict | None = None  # what the job reads besides the document (assess: the summaries)
+    format: str | None = None  # the reader to use ("txt", ...); None: the extension of ``rel`` decides
 
 
 @dataclass(frozen=True)
@@ -50,6 +55,7 @@ class JobResult:
     notice: str | None = None
     scores: dict | None = None
     signatures: dict | None = None  # score name -> its signature text
+    rows: tuple | None = None  # a scoring job's results, one per summary it was given (assess)
 
     @classmethod
     def coerce(cls, value) -> "JobResult | None":
@@ -195,25 +201,27 @@ def process_task(task: Task, job) -> Outcome:
     """Summarize one document from its bytes; never raises (errors come back as a reason)."""
     started = time.perf_counter()
     rel = task.rel
+    verb = getattr(job, "verb", "summarized")
     timings: dict = {}
     result = error = encoding = None
     warnings: list[str] = []
     try:
         problem = prepare_once(job, task.threads)
         if problem:
-            error = f"'{rel}' was not summarized: the worker could not load its models ({problem})"
+            error = f"'{rel}' was not {verb}: the worker could not load its models ({problem})"
         else:
-            document = reading.read(task.data, name=rel)
+            document = reading.read(task.data, task.format, name=rel)
             encoding = document.encoding
             read_at = time.perf_counter()
             timings["read_s"] = round(read_at - started, 4)
             error, warnings = reading.text_problem(document, f"'{rel}'", task.any_language)
             if not error:
-                result = JobResult.coerce(job(document, task.settings))
+                made = job(document, task.settings) if task.inputs is None else job(document, task.settings, task.inputs)
+                result = JobResult.coerce(made)
                 timings["summarize_s"] = round(time.perf_counter() - read_at, 4)
     except reading.ReadError as exc:
         error = str(exc)
     except (Exception, SystemExit) as exc:
-        error = f"'{rel}' could not be summarized ({type(exc).__name__}: {one_line(exc)})"
+        error = f"'{rel}' could not be {verb} ({type(exc).__name__}: {one_line(exc)})"
     timings["worker_s"] = round(time.perf_counter() - started, 4)
     return Outcome(result, error, encoding, tuple(warnings or ()), f"{socket.gethostname()}:{os.getpid()}", timings)
