@@ -148,3 +148,11 @@ def test_a_hanging_or_greedy_reader_is_stopped_and_recorded(monkeypatch, reader,
     fine = process_task(Task("fine.txt", b"The ferry left at noon and came back at two. " * 4,
                              {"words": 5, "ratio": None, "candidates": 1}), LeadJob())
     assert fine.error is None and fine.result.summary == "The ferry left at noon"
+
+
+def test_a_zip_bomb_docx_is_refused_from_its_directory_before_unpacking():
+    data = fz.zip_bomb_docx(300)  # 300 MB of XML, about 1 MB packed
+    started = time.perf_counter()
+    with pytest.raises(reading.ReadError, match=r"^'bomb.docx' would unpack to 300\.\d MB \(limit 256\.0 MB\)"):
+        reading.read(data, name="bomb.docx")
+    assert time.perf_counter() - started < 5  # nothing inflated (inflating 300 MB takes longer here)
