@@ -1,6 +1,9 @@
 """The output folder's lock, ``out_dir/.boildown.lock``: one batch run writes a folder at a time.
 
-The lock file is created with O_CREAT|O_EXCL, held with ``flock`` and holds the owner's PID.
+The lock file is made whole before it has its name: the owner's PID is written and fsynced in a
+temporary file, which is then hard-linked to ``.boildown.lock`` (``link`` fails when the name
+exists, so creation is exclusive and atomic): a racer never opens a lock without its PID, so it
+never mistakes a lock being born for a stale one. The lock is held with ``flock``.
 The kernel drops a ``flock`` when its process dies, so a lock file whose ``flock`` can be taken
 is stale, whatever PID it names; it is taken over with a message.
 """
@@ -29,11 +32,9 @@ class OutputLock:
     def acquire(self) -> str | None:
         """Take the lock; return a notice when a stale lock was taken over. Raises BatchError."""
         for _ in range(20):
-            created = True
-            try:
-                fd = os.open(self.path, os.O_RDWR | os.O_CREAT | os.O_EXCL, 0o644)
-            except FileExistsError:
-                created = False
+            fd = self._create()
+            created = fd is not None
+            if not created:
                 try:
                     fd = os.open(self.path, os.O_RDWR)
                 except FileNotFoundError:
@@ -70,6 +71,34 @@ class OutputLock:
             state = "no longer running" if stale is None or not _alive(stale) else "holding no lock"
             return f"took over a stale lock in '{self.out_dir}' left by PID {stale or '?'} ({state})"
         raise BatchError(f"could not take the lock '{self.path}'; another run keeps replacing it")
+
+    def _create(self) -> int | None:
+        """A new lock file holding our PID and our ``flock``, linked in whole; None when the name
+        is taken. The ``flock`` is taken before the link, so the lock is held from its first moment."""
+        # not named like a temporary file: the holder's clean-up of those must not remove it
+        tmp = self.out_dir / f"{LOCK_NAME}.{os.getpid()}.{os.urandom(4).hex()}.new"
+        try:
+            fd = os.open(tmp, os.O_RDWR | os.O_CREAT | os.O_EXCL, 0o644)
+        except OSError as exc:
+            raise BatchError(f"cannot create the lock '{self.path}' ({exc.strerror}); check that the "
+                             "--out folder is writable") from None
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            os.write(fd, f"{os.getpid()}\n".encode())
+            os.fsync(fd)
+            try:
+                os.link(tmp, self.path)
+            except FileExistsError:
+                os.close(fd)
+                return None
+            return fd
+        except BaseException:
+            with contextlib.suppress(OSError):
+                os.close(fd)
+            raise
+        finally:
+            with contextlib.suppress(OSError):
+                os.unlink(tmp)
 
     def release(self) -> None:
         if self._fd is None:

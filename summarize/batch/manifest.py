@@ -165,10 +165,17 @@ class Manifest:
             if record.status == "failed" and previous.error == record.error:
                 return False
         view = memoryview((record.to_json() + "\n").encode("utf-8"))
-        while view:  # one write for a regular file; a short write (disk full) goes on
-            written = os.write(self._fd, view)
-            view = view[written:]
-        os.fsync(self._fd)
+        end = os.lseek(self._fd, 0, os.SEEK_END)
+        try:
+            while view:  # one write for a regular file; a short write (disk full) goes on
+                written = os.write(self._fd, view)
+                view = view[written:]
+            os.fsync(self._fd)
+        except OSError as exc:  # disk full or gone: take the partial line back, so no record is torn
+            with contextlib.suppress(OSError):
+                os.ftruncate(self._fd, end)
+                os.fsync(self._fd)
+            raise OSError(exc.errno, f"cannot append to the manifest '{self.path}': {exc.strerror or exc}") from exc
         self._index(record)
         return True
 

@@ -136,8 +136,14 @@ def run_batch(input_dir, out_dir, config: BatchConfig | None = None, *, job=None
             note(message)
         try:
             return _Run(input_dir, out_dir, config, job, manifest, say, bar, notices, started).execute()
+        except OSError as exc:  # the output folder failed (disk full): stop, keeping what is recorded
+            raise BatchError(f"stopped: {exc.strerror or exc}; every document recorded so far is kept: free space "
+                             "(or fix the folder) and run the same command again to do the rest") from exc
         finally:
-            manifest.write_csv()
+            try:
+                manifest.write_csv()
+            except OSError:
+                pass  # rebuilt from manifest.jsonl by the next run
             manifest.close()
     finally:
         lock.release()
@@ -197,6 +203,11 @@ class _Run:
         with self.stop:
             try:
                 return self._execute()
+            except OSError:
+                if self.engine is not None:  # writing failed: the documents in flight cannot be kept
+                    self.engine.close(cancel=True)
+                    self.engine = None
+                raise
             except (KeyboardInterrupt, Stopped):
                 if self.engine is not None:
                     self.engine.close(cancel=True)

@@ -17,8 +17,10 @@ returns their results in ``JobResult.rows``; its ``verb`` ("scored") words the f
 
 from __future__ import annotations
 
+import contextlib
 import os
 import socket
+import threading
 import time
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -26,6 +28,15 @@ from typing import ClassVar
 
 from summarize import reading
 from summarize.batch.errors import BatchError, one_line
+
+READ_SECONDS = 60.0
+"""Per-document limit on reading (decoding and parsing): a reader still busy after this long is
+stopped and the document recorded as failed. The fuzz bench's slowest case took far less
+(bench/fuzz_readers.py; docs/RESULTS.md)."""
+READ_MEMORY = 2 * 1024**3
+"""Per-document limit on the memory a reading may add to its worker (RLIMIT_AS raised by this
+much over what the worker already maps, for the reading only): a decompression bomb fails with
+a MemoryError, recorded, instead of taking the machine down."""
 
 THREAD_VARS = ("BOILDOWN_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS", "OPENBLAS_NUM_THREADS")
 _PREPARED: dict[str, str | None] = {}  # job name -> error met while loading (None: ready)
@@ -197,6 +208,59 @@ def prepare_once(job, threads: int | None) -> str | None:
     return _PREPARED[job.name]
 
 
+class ReadLimit(BaseException):
+    """A reading passed the per-document time limit (raised from the timer's signal; a
+    BaseException, so no reader's ``except Exception`` can swallow it)."""
+
+
+@contextlib.contextmanager
+def read_limits(rel: str, seconds: float | None = None, memory: int | None = None):
+    """Read under ``READ_SECONDS`` of wall-clock time and ``READ_MEMORY`` more address space;
+    either overrun comes out as a one-line ``ReadError`` naming the document and the limit.
+
+    Signals and RLIMIT_AS are per process: they apply only when this runs in the process's main
+    thread (the local engine's workers; a Dask worker runs tasks in threads, where they are not
+    set and the scheduler's own memory limits govern)."""
+    seconds = READ_SECONDS if seconds is None else seconds
+    memory = READ_MEMORY if memory is None else memory
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    import resource
+    import signal
+
+    def expire(_signum, _frame):
+        raise ReadLimit()
+
+    old_handler = signal.signal(signal.SIGALRM, expire)
+    old_limit = resource.getrlimit(resource.RLIMIT_AS)
+    ceiling = _mapped_bytes() + memory
+    if old_limit[1] == resource.RLIM_INFINITY or ceiling < old_limit[1]:
+        resource.setrlimit(resource.RLIMIT_AS, (ceiling, old_limit[1]))
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    except ReadLimit:
+        raise reading.ReadError(f"'{rel}' was still being read after {seconds:g} s (the per-document limit) "
+                                "and was stopped; check the file, or convert it to plain text") from None
+    except MemoryError:
+        raise reading.ReadError(f"'{rel}' needed more than {memory / 1024**3:g} GiB of memory to read (the "
+                                "per-document limit) and was stopped; check the file, or split it") from None
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, old_handler)
+        resource.setrlimit(resource.RLIMIT_AS, old_limit)
+
+
+def _mapped_bytes() -> int:
+    """This process's virtual memory size (VmSize), 0 where /proc is missing."""
+    try:
+        with open("/proc/self/statm") as fh:
+            return int(fh.read().split()[0]) * os.sysconf("SC_PAGE_SIZE")
+    except (OSError, ValueError, IndexError):
+        return 0
+
+
 def process_task(task: Task, job) -> Outcome:
     """Summarize one document from its bytes; never raises (errors come back as a reason)."""
     started = time.perf_counter()
@@ -210,7 +274,8 @@ def process_task(task: Task, job) -> Outcome:
         if problem:
             error = f"'{rel}' was not {verb}: the worker could not load its models ({problem})"
         else:
-            document = reading.read(task.data, task.format, name=rel)
+            with read_limits(rel):
+                document = reading.read(task.data, task.format, name=rel)
             encoding = document.encoding
             read_at = time.perf_counter()
             timings["read_s"] = round(read_at - started, 4)

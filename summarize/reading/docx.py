@@ -6,10 +6,14 @@ from __future__ import annotations
 
 import re
 
-from summarize.reading.document import Block, ReadError, Sink, clean, reason
+from summarize.reading.document import Block, ReadError, Sink, clean, format_size, reason
 
 _DOCX_HEADING_RE = re.compile(r"^heading\s*(\d)$", re.IGNORECASE)
 _DOCX_LIST_LEVEL_RE = re.compile(r"(\d)\s*$")
+MAX_UNPACKED = 256 * 1024 * 1024
+"""A DOCX whose parts would unpack to more than this is refused before any is unpacked (the
+sizes come from the ZIP directory, and Python's zipfile never inflates past a declared size):
+a decompression bomb costs nothing. Ordinary documents unpack to a few MB."""
 
 
 def parse(data: bytes, name: str) -> list[Block]:
@@ -26,6 +30,14 @@ def parse(data: bytes, name: str) -> list[Block]:
 
     if not zipfile.is_zipfile(io.BytesIO(data)):
         raise ReadError(f"{name} is not a valid DOCX file (not a ZIP package); re-save it from the word processor as .docx")
+    try:
+        unpacked = sum(info.file_size for info in zipfile.ZipFile(io.BytesIO(data)).infolist())
+    except (zipfile.BadZipFile, ValueError, OSError) as exc:
+        raise ReadError(f"{name} is damaged or not a valid DOCX file ({reason(exc)}); re-save it from the word "
+                        "processor") from None
+    if unpacked > MAX_UNPACKED:
+        raise ReadError(f"{name} would unpack to {format_size(unpacked)} (limit {format_size(MAX_UNPACKED)}), far "
+                        "more than a document's text; check the file (a decompression bomb?) or save it again")
     try:
         import docx
         from docx.table import Table
@@ -52,8 +64,8 @@ def parse(data: bytes, name: str) -> list[Block]:
                         if cell_text:
                             texts.append(cell_text)
                     sink.add("paragraph", "; ".join(texts))
-    except ReadError:
-        raise
+    except (ReadError, MemoryError):
+        raise  # MemoryError: the caller's memory limit words it
     except Exception as exc:
         raise ReadError(f"{name} is damaged or not a valid DOCX file ({reason(exc)}); re-save it from the word processor") from None
     if not sink.blocks:

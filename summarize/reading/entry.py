@@ -134,8 +134,8 @@ def _parse_text(text: str, fmt: str, source: str | None, encoding: str | None, n
         raise ReadError(f"{name} is empty; give text to read")
     try:
         blocks = formats.parser(formats.BY_NAME[fmt])(decode.prepare(text), name)
-    except ReadError:
-        raise
+    except (ReadError, MemoryError):
+        raise  # MemoryError: the caller's memory limit words it
     except RecursionError:
         raise ReadError(f"{name} is nested too deeply to parse; simplify or convert it to plain text") from None
     except Exception as exc:  # never let a parser traceback escape

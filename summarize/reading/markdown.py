@@ -14,7 +14,6 @@ from summarize.reading.document import Block, Sink, clean
 # whose text is not prose, comments (which may span lines).
 _FENCE_RE = re.compile(r"^\s*(`{3,}|~{3,})(.*)$")
 _RAW_BLOCK_RE = re.compile(r"^ {0,3}<(script|style|pre|textarea)(?:\s|>|$)", re.IGNORECASE)
-_COMMENT_RE = re.compile(r"<!--.*?-->", re.DOTALL)
 # Headings (ATX "# Title {#id}", setext underlines), breaks, list items, quotes, tables and
 # link or footnote definitions.
 _ATX_RE = re.compile(r"^ {0,3}(#{1,6})(?:[ \t]+(.*?))?(?:[ \t]+#+)?[ \t]*$")
@@ -23,7 +22,7 @@ _HEADING_ID_RE = re.compile(r"\s*\{#[^}]*\}\s*$")
 _HR_RE = re.compile(r"^ {0,3}([-*_])(?:[ \t]*\1){2,}[ \t]*$")
 _MD_ITEM_RE = re.compile(r"^(?P<indent> *)(?P<marker>[-*+]|\d{1,9}[.)])(?:[ \t]+(?P<text>.*))?$")
 _TASK_RE = re.compile(r"^\[[ xX]\]\s+")
-_QUOTE_RE = re.compile(r"^ {0,3}> ?")
+_QUOTE_RE = re.compile(r"(?: {0,3}> ?)*")  # every quote marker at a line's start, in one match
 _TABLE_DELIM_RE = re.compile(r"^\s*\|?\s*:?-+:?\s*(?:\|\s*:?-+:?\s*)*\|?\s*$")
 _LINKDEF_RE = re.compile(r"^ {0,3}\[[^\]^]+\]:\s*\S+")
 _FOOTDEF_RE = re.compile(r"^ {0,3}\[\^[^\]]+\]:\s*")
@@ -43,14 +42,51 @@ _LINKS = (  # inline and reference links: their text (group 1) stays
     re.compile(r"\[([^\[\]]+)\]\[[^\[\]]*\]"),
 )
 _MD_TAG_RE = re.compile(r"</?[A-Za-z][A-Za-z0-9-]*(?:\s[^<>]*)?/?>")
-# Spans are bounded (500 characters) so that unmatched markers cannot make this quadratic.
+# Emphasis: (delimiter, opener condition, closer condition). A span's content is 1 to 500
+# characters on one line, its first and last characters not spaces; the shortest span from each
+# opener wins, as a lazy regular expression would take it. ``_strip_emphasis`` finds it with one
+# scan of the openers and a binary search among the closers, so the time stays linear in the
+# text's length however many markers never close (a bounded regex would cost 500 steps a marker).
+_SPAN_MAX = 500
 _MD_EMPHASIS = (
-    re.compile(r"\*\*(?=\S)(.{1,500}?)(?<=\S)\*\*"),
-    re.compile(r"(?<!\w)__(?=\S)(.{1,500}?)(?<=\S)__(?!\w)"),
-    re.compile(r"(?<![*\w])\*(?=[^\s*])(.{1,500}?)(?<=[^\s*])\*(?![*\w])"),
-    re.compile(r"(?<![_\w])_(?=[^\s_])(.{1,500}?)(?<=[^\s_])_(?![_\w])"),
-    re.compile(r"~~(?=\S)(.{1,500}?)(?<=\S)~~"),
+    ("**", re.compile(r"(?=\*\*\S)"), re.compile(r"(?<=\S)(?=\*\*)")),
+    ("__", re.compile(r"(?<!\w)(?=__\S)"), re.compile(r"(?<=\S)(?=__(?!\w))")),
+    ("*", re.compile(r"(?<![*\w])(?=\*[^\s*])"), re.compile(r"(?<=[^\s*])(?=\*(?![*\w]))")),
+    ("_", re.compile(r"(?<![_\w])(?=_[^\s_])"), re.compile(r"(?<=[^\s_])(?=_(?![_\w]))")),
+    ("~~", re.compile(r"(?=~~\S)"), re.compile(r"(?<=\S)(?=~~)")),
 )
+
+
+def _strip_emphasis(text: str, delim: str, opener: re.Pattern, closer: re.Pattern) -> str:
+    """``re.sub(delim (?=\\S) (.{1,500}?) (?<=\\S) delim, r"\\1", text)`` (with each form's word
+    conditions) in linear time: the same matches, left to right, never overlapping."""
+    if delim not in text:
+        return text
+    import bisect
+
+    closers = [m.start() for m in closer.finditer(text)]
+    if not closers:
+        return text
+    breaks = [m.start() for m in re.finditer("\n", text)]
+    width = len(delim)
+    out: list[str] = []
+    pos = 0
+    for m in opener.finditer(text):
+        start = m.start()
+        if start < pos:
+            continue
+        body = start + width
+        k = bisect.bisect_left(closers, body + 1)
+        if k == len(closers) or closers[k] - body > _SPAN_MAX:
+            continue
+        end = closers[k]
+        b = bisect.bisect_left(breaks, body)
+        if b < len(breaks) and breaks[b] < end:
+            continue  # "." does not cross a line end
+        out += (text[pos:start], text[body:end])
+        pos = end + width
+    out.append(text[pos:])
+    return "".join(out)
 
 
 def _md_inline(text: str) -> str:
@@ -71,8 +107,8 @@ def _md_inline(text: str) -> str:
     text = _MD_TAG_RE.sub(lambda m: " " if m.group(0).lower().startswith("<br") else "", text)
     for _ in range(4):
         before = text
-        for pattern in _MD_EMPHASIS:
-            text = pattern.sub(r"\1", text)
+        for delim, opener, closer in _MD_EMPHASIS:
+            text = _strip_emphasis(text, delim, opener, closer)
         if text == before:
             break
     text = html.unescape(text)
@@ -81,6 +117,24 @@ def _md_inline(text: str) -> str:
             break
         text = re.sub(r"\x00(\d+)\x00", lambda m: saved[int(m.group(1))], text)
     return clean(text)
+
+
+def _strip_comments(line: str) -> tuple[str, bool]:
+    """The line without its HTML comments, and whether a comment stays open at its end. One
+    left-to-right scan with ``str.find`` (a ``<!--.*?-->`` regex is quadratic when many comments
+    open and none closes)."""
+    parts = []
+    pos = 0
+    while True:
+        start = line.find("<!--", pos)
+        if start < 0:
+            parts.append(line[pos:])
+            return "".join(parts), False
+        parts.append(line[pos:start])
+        end = line.find("-->", start + 4)
+        if end < 0:
+            return "".join(parts), True
+        pos = end + 3
 
 
 def _strip_front_matter(lines: list[str]) -> list[str]:
@@ -161,19 +215,11 @@ def parse(text: str, name: str) -> list[Block]:
             if not raw.strip():
                 continue
         if "<!--" in raw:
-            raw = _COMMENT_RE.sub("", raw)
-            if "<!--" in raw:
-                raw = raw[: raw.index("<!--")]
-                in_comment = True
+            raw, in_comment = _strip_comments(raw)
             if not raw.strip():
                 continue
 
-        line = raw
-        while True:
-            m = _QUOTE_RE.match(line)
-            if not m:
-                break
-            line = line[m.end() :]
+        line = raw[_QUOTE_RE.match(raw).end() :]
         stripped = line.strip()
         indent = len(line) - len(line.lstrip(" "))
 

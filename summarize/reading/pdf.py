@@ -67,8 +67,8 @@ def parse(data: bytes, name: str) -> list[Block]:
                 if not ok:
                     raise ReadError(f"{name} is password-protected; remove the password (save an unlocked copy) and try again")
             count = len(reader.pages)
-        except ReadError:
-            raise
+        except (ReadError, MemoryError):
+            raise  # MemoryError: the caller's memory limit words it
         except FileNotDecryptedError:
             raise ReadError(f"{name} is password-protected; remove the password (save an unlocked copy) and try again") from None
         except DependencyError:
@@ -84,6 +84,8 @@ def parse(data: bytes, name: str) -> list[Block]:
                 raise ReadError(f"{name} is password-protected; remove the password and try again") from None
             except DependencyError:
                 raise ReadError(aes) from None
+            except MemoryError:
+                raise
             except Exception as exc:
                 raise ReadError(
                     f"{name}: text on page {number + 1} could not be extracted ({reason(exc)}); the PDF may be damaged"
