@@ -3,7 +3,8 @@ through PYTHONPATH) loads a ``sitecustomize`` that refuses to create Internet so
 (AF_INET, AF_INET6) and to resolve names, via an audit hook (PEP 578; the events
 "socket.__new__", "socket.getaddrinfo", "socket.gethostbyname" are listed in Python's audit
 events table). Every attempt is also written to a log, so an attempt that the code caught and
-ignored still fails the test. Local sockets (AF_UNIX, used by multiprocessing) are allowed.
+ignored still fails the test (one exception, refused but not logged: urllib3's import-time
+probe for IPv6 on the loopback address). Local sockets (AF_UNIX, used by multiprocessing) are allowed.
 
 The Dask engine's connections are logged instead of refused: every one must go to the scheduler
 address given on the command line.
@@ -36,10 +37,25 @@ def _note(line):
             fh.write(line + "\n")
 
 
+def _ipv6_probe():
+    # urllib3 asks at import time whether this machine has IPv6 by binding a socket to the
+    # loopback address ::1 (urllib3/util/connection.py, _has_ipv6); it is refused like every
+    # other Internet socket, and urllib3 reads the refusal as "no IPv6". It is not logged as an
+    # attempt because it never leaves the machine and the library already handles the refusal.
+    frame = sys._getframe(2)
+    while frame is not None:
+        code = frame.f_code
+        if code.co_name == "_has_ipv6" and code.co_filename.replace(os.sep, "/").endswith("urllib3/util/connection.py"):
+            return True
+        frame = frame.f_back
+    return False
+
+
 def _hook(event, args):
     if event == "socket.__new__" and len(args) > 1 and int(args[1]) in _INET:
         if _MODE == "block":
-            _note(f"{os.getpid()} socket {args[1]}")
+            if not _ipv6_probe():
+                _note(f"{os.getpid()} socket {args[1]}")
             raise PermissionError("network blocked by the test (socket creation)")
     elif event in ("socket.getaddrinfo", "socket.gethostbyname", "socket.gethostbyname_ex"):
         if _MODE == "block":
