@@ -4,8 +4,10 @@ the process (resident set, from the OS) after both.
 
     .venv/bin/python bench/summarize_speed.py [--repeats 3]
 
-Targets (the summarizer issue): 5,000 words in at most 30 s; 20,000 words at most 4.5x that;
-peak memory at most 3 GB. Each repeat uses a fresh evaluator and empties the per-process
+Targets (issue 21, item 5; the earlier absolute 30 s target is withdrawn): 20,000 words in at
+most 4.5x the time of 5,000 words (4 x 5,000 words would be the linear reference), both timed
+in this one run; peak memory at most 3 GB. The load average at the start and end of the run
+is recorded beside the times (the machine is shared). Each repeat uses a fresh evaluator and empties the per-process
 caches of key words and verb checks, so nothing of the source is cached between repeats
 (models stay loaded).
 """
@@ -13,6 +15,7 @@ caches of key words and verb checks, so nothing of the source is cached between 
 from __future__ import annotations
 
 import argparse
+import os
 import resource
 import statistics
 import sys
@@ -39,6 +42,7 @@ def main(argv=None):
     from summarize.reading import parse_text
 
     threads = set_threads()
+    load_before = os.getloadavg()
     load_causal(), causal_in_dtype("auto"), load_encoder(), load_spacy(), _encoder()
     dtype = fast_dtype()  # what the models run in here: bfloat16 only where this CPU runs it fast
     results = {}
@@ -71,7 +75,8 @@ def main(argv=None):
           f"matmul {matmul:.0f} GFLOPS fp32, {matmul_bf16:.1f} bf16; models in {dtype}")
     out = save("summarize_speed", {"threads": threads, "dtype": dtype, "by_length": results, "ratio_20k_to_5k": ratio,
                                    "peak_rss_gb": peak_gb, "matmul_fp32_gflops": matmul,
-                                   "matmul_bf16_gflops": matmul_bf16})
+                                   "matmul_bf16_gflops": matmul_bf16,
+                                   "load_average": {"start": list(load_before), "end": list(os.getloadavg())}})
     print(f"written {out}")
 
 
