@@ -12,6 +12,8 @@ Flags (each a word a reader can check):
 * ``stutter``: a word written twice in a row ("the the", "hidden hidden");
 * ``dangling``: the sentence ends on a function word ("... who has lost the."), what a cut
   or a broken generation leaves;
+* ``unbalanced``: a bracket opened and not closed (or closed and not opened), or an odd number
+  of straight double quotes, what a deletion across a bracket or quotation leaves;
 * ``unfinished``: the last sentence stops without closing punctuation;
 * ``no verb``: no finite verb by the spaCy parse (what a deletion that removed the verb leaves);
 * ``reads poorly``: the sentence's own perplexity is far above the source's.
@@ -25,7 +27,7 @@ from __future__ import annotations
 import functools
 import re
 
-FLAGS = ("repeats", "stutter", "dangling", "unfinished", "no verb", "reads poorly")
+FLAGS = ("repeats", "stutter", "dangling", "unbalanced", "unfinished", "no verb", "reads poorly")
 
 _WORD = re.compile(r"[a-z0-9']+")
 # Words a complete English sentence does not end on (articles, prepositions, conjunctions,
@@ -68,6 +70,11 @@ def dangling(sentence: str) -> bool:
     return len(w) >= 2 and w[-1] in FUNCTION_WORDS
 
 
+def unbalanced(sentence: str) -> bool:
+    t = sentence.replace("-lrb-", "(").replace("-rrb-", ")")
+    return any(t.count(a) != t.count(b) for a, b in ("()", "[]")) or t.count('"') % 2 == 1
+
+
 def unfinished(sentence: str) -> bool:
     return not sentence.rstrip().endswith(_CLOSERS)
 
@@ -96,6 +103,8 @@ def sentence_flags(sentences: list[str], *, parse: bool = True) -> list[list[str
             flags.append("stutter")
         if dangling(text):
             flags.append("dangling")
+        if unbalanced(text):
+            flags.append("unbalanced")
         if n == len(sentences) - 1 and unfinished(text):
             flags.append("unfinished")
         if parse and len(text.split()) >= 3 and not has_verb(text):
