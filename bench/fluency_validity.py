@@ -102,12 +102,16 @@ def main():
     from scoring.text import split_sentences
 
     rows = load_summeval() + load_longsciverify()
+    if "--docs" in sys.argv:  # a smoke run on the first N documents of each set
+        n = int(sys.argv[sys.argv.index("--docs") + 1])
+        keep = {kind: sorted({r["doc"] for r in rows if r["set"] == kind})[:n] for kind in ("summeval", "lsv")}
+        rows = [r for r in rows if r["doc"] in keep[r["set"]]]
     print(f"{sum(r['set'] == 'summeval' for r in rows)} SummEval dev and {sum(r['set'] == 'lsv' for r in rows)} "
           "LongSciVerify summaries", flush=True)
     default = FluencyConfig(dtype="float32")
-    candidates: dict[str, list[float]] = {}
+    candidates: dict[str, list[float]] = {"length (words)": [len(r["text"].split()) for r in rows]}
     settings: dict[str, str] = {}
-    for reading in ("as-written", "tidy"):
+    for reading in ("tidy", "as-written"):
         base_config = dataclasses.replace(default, reading=reading)
         scorer = FluencyScorer(base_config)
         results, refs = [], []
@@ -171,8 +175,13 @@ def main():
         for name, config in variants.items():
             candidates[name + tag] = [fluency_value(s.sentences, f, config) for s, f in zip(res, ref)]
             settings[name + tag] = str(FluencyScorer(config, model=lm).signature())
-        if reading == "as-written":
-            candidates["length (words)"] = [len(r["text"].split()) for r in rows]
+        _report(rows, candidates, settings, default, done=reading)
+
+
+def _report(rows, candidates, settings, default, done):
+    """Print the table and write the results file (after each reading, so a cut run keeps the first)."""
+    from scoring.fluency import FluencyScorer
+
     out = {name: correlations(rows, values) for name, values in candidates.items()}
     print(f"{'candidate':48s} {'SE summ':>8s} {'SE sys':>8s} {'LSV all':>8s} {'LSV paper':>9s}")
     for name, c in out.items():
@@ -181,7 +190,7 @@ def main():
         "summeval_summaries": sum(r["set"] == "summeval" for r in rows),
         "lsv_summaries": sum(r["set"] == "lsv" for r in rows),
         "lsv_without_source": sum(r["set"] == "lsv" and not r["source"] for r in rows),
-        "chosen": "default (tidy)", "today": "today's flags (as-written)",
+        "chosen": "default (tidy)", "today": "today's flags (as-written)", "readings_done": done,
         "correlations": out, "settings": settings, "signature": str(FluencyScorer(default).signature()),
     })
     print(f"written {path}")

@@ -180,7 +180,7 @@ class FluencyScorer(BaseScorer, name="fluency", label="Fluency", needs="source",
     columns = (
         Column("fluency", lambda r: r.value, "num2", "fluency", "Fluency"),
         Column("perplexity", lambda r: r.perplexity),
-        Column("weakest_sentence", lambda r: "" if r.weakest is None else r.weakest.index + 1, "int"),
+        Column("weakest_sentence", lambda r: None if r.weakest is None else r.weakest.index + 1, "int"),
     )
 
     def __init__(self, config: FluencyConfig | None = None, model: TokenModel | None = None):
