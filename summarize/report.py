@@ -162,7 +162,10 @@ def explanations(candidates, limit: int = 12) -> str:
         out.append(f"[{c.rank}] {c.name}")
         out.append(f"  recovered with this summary ({len(cov.recovered)}): {_words(cov.recovered, limit)}")
         out.append(f"  still missed ({len(cov.missed)}): {_words(cov.missed, limit)}")
-        flagged = c.fluency.flagged
+        weakest = getattr(c.fluency, "weakest", None)
+        if weakest is not None:
+            out.append(f"  weakest sentence ({weakest.index + 1}; {weakest.why}): {_short(weakest.text, 80)}")
+        flagged = [s for s in c.fluency.flagged if weakest is None or s.text != weakest.text]
         for s in flagged[:3]:
             out.append(f"  flagged sentence ({', '.join(s.flags)}): {_short(s.text, 80)}")
         if c.over_budget:
