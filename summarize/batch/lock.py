@@ -61,13 +61,15 @@ class OutputLock:
             if not same:  # the file was released and replaced while we waited: start over
                 os.close(fd)
                 continue
-            stale = None if created else _read_pid(fd)
-            os.ftruncate(fd, 0)
-            os.pwrite(fd, f"{os.getpid()}\n".encode(), 0)
-            os.fsync(fd)
             self._fd = fd
-            if created:
+            if created:  # made whole with our PID before it got its name: nothing to rewrite
                 return None
+            stale = _read_pid(fd)
+            # write our PID over the stale one, then cut: a reader never sees an empty lock
+            mine = f"{os.getpid()}\n".encode()
+            os.pwrite(fd, mine, 0)
+            os.ftruncate(fd, len(mine))
+            os.fsync(fd)
             state = "no longer running" if stale is None or not _alive(stale) else "holding no lock"
             return f"took over a stale lock in '{self.out_dir}' left by PID {stale or '?'} ({state})"
         raise BatchError(f"could not take the lock '{self.path}'; another run keeps replacing it")
