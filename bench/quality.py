@@ -53,18 +53,20 @@ def lines(summary_sentences) -> str:
     return "\n".join(summary_sentences)
 
 
-def run_main(examples, name: str, evaluator, candidates: int):
-    from summarize.pipeline import summarize
-
-    outputs = {k: [] for k in ("lead", "textrank", "lexrank", "oracle", "boildown")}
-    coverage = {k: [] for k in outputs}
-    fluency = {k: [] for k in outputs}
+def run_main(examples, name: str, evaluator, candidates: int, on_document=None):
+    """boildown and the baselines on ``examples``; ``on_document(block)`` gets the results so far
+    after each document (the caller saves them, so a cut run keeps what it measured)."""
     from rouge_score.rouge_scorer import RougeScorer
 
+    from summarize.pipeline import summarize
     from scoring.text import split_sentences
 
     rouge = RougeScorer(["rouge2"], use_stemmer=True)
+    outputs = {k: [] for k in ("lead", "textrank", "lexrank", "oracle", "boildown")}
+    coverage = {k: [] for k in outputs}
+    fluency = {k: [] for k in outputs}
     timings, own = [], []  # own: per document, the ROUGE-2 of each of boildown's candidates, the chosen first
+    block = None
     for n, ex in enumerate(examples, 1):
         doc = document_of(ex)
         start = time.perf_counter()
@@ -88,9 +90,17 @@ def run_main(examples, name: str, evaluator, candidates: int):
         for k in names:
             coverage[k].append(by[k].coverage.share)
             fluency[k].append(by[k].fluency.value)
+        block = main_block(outputs, coverage, fluency, examples[:n], timings, own)
+        if on_document:
+            on_document(block)
         print(f"\r{name}: {n}/{len(examples)} documents, median {statistics.median(timings):.1f} s per summary",
               end="", file=sys.stderr)
     print(file=sys.stderr)
+    return block
+
+
+def main_block(outputs, coverage, fluency, examples, timings, own) -> dict:
+    """The table of the documents done so far."""
     table = rouge_table(outputs, examples)
     for k in outputs:
         table[k]["coverage"] = 100 * statistics.mean(coverage[k])
@@ -100,7 +110,8 @@ def run_main(examples, name: str, evaluator, candidates: int):
     gap = {t: (table["boildown"][t] - table[best][t]) / max(1e-9, table["oracle"][t] - table[best][t])
            for t in ("rouge1", "rouge2", "rougeLsum")}
     return {"table": table, "best_baseline": best, "share_of_gap_closed": gap, "own_candidates": own_summary(own),
-            "median_seconds": statistics.median(timings), "mean_budget": statistics.mean(e.budget_words for e in examples)}
+            "documents": len(examples), "median_seconds": statistics.median(timings),
+            "mean_budget": statistics.mean(e.budget_words for e in examples)}
 
 
 def own_summary(own: list[dict]) -> dict:
@@ -275,7 +286,11 @@ def main(argv=None):
         for name, examples in (("squality_test", squality_test), ("longsciverify", papers)):
             if name not in args.sets.split(","):
                 continue
-            results[name] = run_main(examples, name, evaluator, args.candidates)
+            def keep(block, name=name):
+                results[name] = block
+                checkpoint(args, results)
+
+            results[name] = run_main(examples, name, evaluator, args.candidates, keep)
             checkpoint(args, results)
             block = results[name]
             print(f"\n{name}: {len(examples)} documents, mean budget {block['mean_budget']:.0f} words")

@@ -97,8 +97,8 @@ class OrderConfig:
         parts = [f"{w:.3g} z({n})" if w != 1 else f"z({n})" for n, w in self.pool_weights if w > 0]
         if self.combined_weight > 0:
             parts.append(f"{self.combined_weight:.3g} z(combined)")
-        return (" + ".join(parts) + ", z = standard score among this run's candidates (3 or more): it ranks "
-                "them and changes with the pool; not comparable across runs, unlike the combined score")
+        return (" + ".join(parts) + ", z = standard score among this run's candidates: relative to them, "
+                "not comparable across runs, unlike the combined score")
 
     def values(self, pool_units: Mapping[str, Sequence[float | None]], combined: Sequence[float]) -> list[float] | None:
         """The ordering score of each candidate of one pool, or None when a pool scorer has no
