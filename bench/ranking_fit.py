@@ -46,7 +46,7 @@ def features(candidates: list[dict], source: str | None, rouge) -> dict[str, lis
     out = {"agreement": [statistics.mean(pair[i, j] for j in range(n) if j != i) for i in range(n)],
            "combined": [combined_score(c["coverage"], c["fluency"]) for c in candidates],
            "coverage": [c["coverage"] for c in candidates], "fluency": [c["fluency"] for c in candidates],
-           "budget fill": [c["words"] / max(c["words"] for c in candidates) for c in candidates],
+           "budget fill": [c["words"] for c in candidates],  # z(words / budget) = z(words): one budget per story
            "words per sentence": [words_per_sentence(c["text"]) for c in candidates]}
     if source is not None:
         from bench.baselines import terms
