@@ -97,3 +97,20 @@ def test_outputs_name_the_two_scores_apart(evaluator):
     single = report.table(evaluator.evaluate([("a", TEXTS["a"])], source=SOURCE))
     assert "ordering: none: it needs 3 or more candidates" in single
     assert "ordering" in report.legend() and "combined" in report.legend()
+
+
+def test_json_keeps_the_fields_a_rerun_reads_and_adds_the_ordering(evaluator):
+    import json
+
+    from summarize import report
+    from summarize.pipeline import _scores
+
+    ranked = evaluator.evaluate([(n, t) for n, t in TEXTS.items()], source=SOURCE)
+    first = json.loads(report.to_json(ranked))["candidates"][0]
+    assert {"name", "combined", "ordering", "coverage", "fluency", "text"} <= set(first)
+    assert "share" in first["coverage"] and "missed" in first["coverage"]
+    scores = _scores(ranked[0])
+    assert scores["ordering"] == ranked[0].ordering
+    assert scores["signatures"]["ordering"]["formula"].startswith("z(agreement) + 0.25 z(combined)")
+    alone = _scores(evaluator.evaluate([("a", TEXTS["a"])], source=SOURCE)[0])
+    assert alone["ordering"] is None and alone["signatures"]["ordering"] is None
