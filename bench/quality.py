@@ -53,18 +53,31 @@ def lines(summary_sentences) -> str:
     return "\n".join(summary_sentences)
 
 
-def run_main(examples, name: str, evaluator, candidates: int):
-    from summarize.pipeline import summarize
+def run_main(examples, name: str, evaluator, candidates: int, on_document=None):
+    """boildown and the baselines on ``examples``; ``on_document(block)`` gets the results so far
+    after each document (the caller saves them, so a cut run keeps what it measured)."""
+    from rouge_score.rouge_scorer import RougeScorer
 
+    from summarize.pipeline import summarize
+    from scoring.text import split_sentences
+
+    rouge = RougeScorer(["rouge2"], use_stemmer=True)
     outputs = {k: [] for k in ("lead", "textrank", "lexrank", "oracle", "boildown")}
     coverage = {k: [] for k in outputs}
     fluency = {k: [] for k in outputs}
-    timings = []
+    timings, own = [], []  # own: per document, the ROUGE-2 of each of boildown's candidates, the chosen first
+    block = None
     for n, ex in enumerate(examples, 1):
         doc = document_of(ex)
         start = time.perf_counter()
         result = summarize(doc, ex.budget_words, candidates=candidates, evaluator=evaluator)
         timings.append(time.perf_counter() - start)
+        refs = ["\n".join(split_sentences(r)) for r in ex.references]
+        own.append({"id": ex.id, "names": [d.recipe for d, _ in result.candidates],
+                    "ordering": [c.ordering for _, c in result.candidates],
+                    "combined": [c.combined for _, c in result.candidates],
+                    "rouge2": [rouge.score_multi(refs, "\n".join(s.text for s in d.sentences) or d.text)["rouge2"].fmeasure
+                               for d, _ in result.candidates]})
         outputs["boildown"].append(lines(s.text for s in result.sentences) or result.text)
         outputs["lead"].append(lead(ex.source_text, ex.budget_words))
         outputs["textrank"].append(textrank(ex.source_text, ex.budget_words))
@@ -77,9 +90,17 @@ def run_main(examples, name: str, evaluator, candidates: int):
         for k in names:
             coverage[k].append(by[k].coverage.share)
             fluency[k].append(by[k].fluency.value)
+        block = main_block(outputs, coverage, fluency, examples[:n], timings, own)
+        if on_document:
+            on_document(block)
         print(f"\r{name}: {n}/{len(examples)} documents, median {statistics.median(timings):.1f} s per summary",
               end="", file=sys.stderr)
     print(file=sys.stderr)
+    return block
+
+
+def main_block(outputs, coverage, fluency, examples, timings, own) -> dict:
+    """The table of the documents done so far."""
     table = rouge_table(outputs, examples)
     for k in outputs:
         table[k]["coverage"] = 100 * statistics.mean(coverage[k])
@@ -88,8 +109,22 @@ def run_main(examples, name: str, evaluator, candidates: int):
     best = max(("lead", "textrank", "lexrank"), key=lambda k: table[k]["rouge2"])
     gap = {t: (table["boildown"][t] - table[best][t]) / max(1e-9, table["oracle"][t] - table[best][t])
            for t in ("rouge1", "rouge2", "rougeLsum")}
-    return {"table": table, "best_baseline": best, "share_of_gap_closed": gap,
-            "median_seconds": statistics.median(timings), "mean_budget": statistics.mean(e.budget_words for e in examples)}
+    return {"table": table, "best_baseline": best, "share_of_gap_closed": gap, "own_candidates": own_summary(own),
+            "documents": len(examples), "median_seconds": statistics.median(timings),
+            "mean_budget": statistics.mean(e.budget_words for e in examples)}
+
+
+def own_summary(own: list[dict]) -> dict:
+    """The chosen candidate against the mean and the best of boildown's own candidates (ROUGE-2
+    F1 x 100, by the references), and the share of the mean-to-best gap the choice closes."""
+    if not own:
+        return {}
+    chosen = 100 * statistics.mean(o["rouge2"][0] for o in own)
+    mean = 100 * statistics.mean(statistics.mean(o["rouge2"]) for o in own)
+    best = 100 * statistics.mean(max(o["rouge2"]) for o in own)
+    taus = [t for t in (kendall([-i for i in range(len(o["rouge2"]))], o["rouge2"]) for o in own) if t == t]
+    return {"chosen": chosen, "mean": mean, "best": best, "share_of_gap_closed": (chosen - mean) / max(1e-9, best - mean),
+            "mean_kendall_tau_rank_vs_rouge2": statistics.mean(taus) if taus else None, "documents": own}
 
 
 def run_ranking(evaluator, candidates: int, limit: int | None, split: str = "dev"):
@@ -251,7 +286,11 @@ def main(argv=None):
         for name, examples in (("squality_test", squality_test), ("longsciverify", papers)):
             if name not in args.sets.split(","):
                 continue
-            results[name] = run_main(examples, name, evaluator, args.candidates)
+            def keep(block, name=name):
+                results[name] = block
+                checkpoint(args, results)
+
+            results[name] = run_main(examples, name, evaluator, args.candidates, keep)
             checkpoint(args, results)
             block = results[name]
             print(f"\n{name}: {len(examples)} documents, mean budget {block['mean_budget']:.0f} words")

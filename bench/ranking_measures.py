@@ -142,7 +142,7 @@ def story_scores(candidates: list[dict], rouge, source: str | None = None) -> di
 def picks(candidates: list[dict], rouge) -> dict[str, float]:
     """ROUGE-2 (x 100, against the humans) of the boildown candidate each rule would return.
     As in the pipeline, agreement is taken among boildown's own candidates only."""
-    from scoring.combine import combined_score
+    from scoring.combine import OrderConfig, combined_score
 
     pair = _pairs(candidates, rouge)
     own_at = [i for i, c in enumerate(candidates) if c["name"].startswith("boildown")]
@@ -155,11 +155,13 @@ def picks(candidates: list[dict], rouge) -> dict[str, float]:
     by_name = {c["name"]: c for c in candidates}
     density = dict(zip(map(id, own), _z([words_per_sentence(c["text"]) for c in own])))
     z_agreement = dict(zip(map(id, own), _z(agreement)))
+    ordering = dict(zip(map(id, own), OrderConfig().values(
+        {"agreement": agreement}, [combined_score(c["coverage"], c["fluency"]) for c in own])))
     return {
-        "combined score (agreement, coverage, fluency)": top(lambda c, a: combined_score(c["coverage"], c["fluency"], a)),
+        "ordering score (agreement, then the combined score)": top(lambda c, a: ordering[id(c)]),
         "agreement alone": top(lambda c, a: a),
         "z agreement + 0.5 z words per sentence": top(lambda c, a: z_agreement[id(c)] + 0.5 * density[id(c)]),
-        "coverage and fluency (earlier combined score)": top(lambda c, a: combined_score(c["coverage"], c["fluency"])),
+        "combined score (coverage and fluency)": top(lambda c, a: combined_score(c["coverage"], c["fluency"])),
         "the balanced candidate": 100 * by_name["boildown:balanced"]["rouge2"],
         "mean of boildown's candidates": 100 * statistics.mean(c["rouge2"] for c in own),
         "best boildown candidate (by the references)": 100 * max(c["rouge2"] for c in own),

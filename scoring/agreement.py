@@ -7,15 +7,17 @@ Bayes-risk selection (Kumar & Byrne, 2004) with ROUGE-2 as the gain; using other
 summaries as references when no human one exists is the pseudo-model idea of Louis & Nenkova
 (Computational Linguistics, 2013). Both are recalled from memory.
 
-Why it is in the combined score: on 30 SQuALITY train stories (bench/quality.py ranking
+Why it is in the ordering score (``scoring.combine.OrderConfig``; never in the combined score,
+since its value depends on the pool): on 30 SQuALITY train stories (bench/quality.py ranking
 evidence, ``bench/results/ranking_tuning_train.json``), ordering each story's candidates by
 agreement matched their order by ROUGE-2 against the human summaries at a mean Kendall tau of
-0.246, against 0.118 for coverage alone.
+0.246, against 0.118 for coverage alone (0.180 against 0.010 among boildown's own candidates
+only, ``bench/ranking_fit.py``).
 
 What it cannot see: agreement rewards the typical candidate. A point every candidate leaves
 out costs none of them anything; coverage's missed key words are the place to look for that.
 It needs at least ``min_candidates`` candidates (itself and two others); with fewer it is not
-computed and the combined score leaves it out.
+computed, there is no ordering score and the combined score ranks.
 """
 
 from __future__ import annotations

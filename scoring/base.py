@@ -77,7 +77,7 @@ NEEDS = ("source", "pool", "references")
 """What a scorer reads beside each summary: its source, the other candidates of the same source
 (the pool), or human reference summaries (it runs only when some are given)."""
 
-KINDS = ("pct", "num2", "num3", "num4", "int", "words")
+KINDS = ("pct", "num2", "num3", "num4", "signed2", "int", "words")  # signed2: a z-score sum (+0.53)
 """How a column's value is printed: a percentage, a number to 2/3/4 places, a whole number, a list of words."""
 
 

@@ -14,26 +14,28 @@ import functools
 from collections.abc import Callable, Mapping, Sequence
 
 from scoring import registry
-from scoring.combine import Candidate, CombineConfig, rank
+from scoring.combine import Candidate, CombineConfig, OrderConfig, rank
 from scoring.text import count_words
 
 
 class EvalConfig:
-    """Every scorer's config (a registered name's default unless given) and the combined score's.
+    """Every scorer's config (a registered name's default unless given), the combined score's
+    and the ordering score's.
 
         EvalConfig(coverage=CoverageConfig(keywords=30))
         EvalConfig().coverage.keywords   # 40, the default
 
     Immutable, comparable and hashable like the frozen configs it holds."""
 
-    __slots__ = ("combine", "_configs")
+    __slots__ = ("combine", "order", "_configs")
 
-    def __init__(self, combine: CombineConfig | None = None, **configs):
+    def __init__(self, combine: CombineConfig | None = None, order: OrderConfig | None = None, **configs):
         for name, config in configs.items():
             expected = registry.scorer_class(name).Config  # an unknown name fails here
             if not isinstance(config, expected):
                 raise ValueError(f"{name} needs a {expected.__name__}, got {type(config).__name__}")
         object.__setattr__(self, "combine", combine or CombineConfig())
+        object.__setattr__(self, "order", order or OrderConfig())
         object.__setattr__(self, "_configs", tuple(sorted(configs.items())))
 
     def of(self, name: str):
@@ -49,14 +51,15 @@ class EvalConfig:
         raise AttributeError("EvalConfig is immutable; build a new one")
 
     def __eq__(self, other):
-        return isinstance(other, EvalConfig) and (self.combine, self._configs) == (other.combine, other._configs)
+        return isinstance(other, EvalConfig) and (self.combine, self.order, self._configs) == (
+            other.combine, other.order, other._configs)
 
     def __hash__(self):
-        return hash((self.combine, self._configs))
+        return hash((self.combine, self.order, self._configs))
 
     def __repr__(self):
         inner = ", ".join(f"{n}={c!r}" for n, c in self._configs)
-        return f"EvalConfig({inner + ', ' if inner else ''}combine={self.combine!r})"
+        return f"EvalConfig({inner + ', ' if inner else ''}combine={self.combine!r}, order={self.order!r})"
 
 
 class Evaluator:
@@ -125,13 +128,25 @@ class Evaluator:
         for i, (name, text) in enumerate(candidates):
             scores = {key: found[i] for key, found in results.items()}
             out.append(Candidate(name=name, text=text, words=count_words(text), budget=budget, scores=scores,
-                                 combined=self.combined(scores), combine=self.config.combine))
+                                 combined=self.combined(scores), combine=self.config.combine,
+                                 order=self.config.order))
+        ordering = self.ordering(out)
+        if ordering is not None:
+            out = [dataclasses.replace(c, ordering=o) for c, o in zip(out, ordering)]
         return rank(out)
 
     def combined(self, scores: Mapping[str, object]) -> float:
         """The combined score of one candidate's results."""
         return self.config.combine.value({name: r.unit if r is not None else None for name, r in scores.items()
                                           if name in dict(self.config.combine.weights)})
+
+
+    def ordering(self, candidates: Sequence[Candidate]) -> list[float] | None:
+        """The pool-relative ordering score of each candidate (``OrderConfig``), or None when
+        the pool is too small for its pool scores."""
+        pool = {name: [c.scores[name].unit if c.scores.get(name) is not None else None for c in candidates]
+                for name, _ in self.config.order.pool_weights}
+        return self.config.order.values(pool, [c.combined for c in candidates])
 
 
 def _reusable(given: Mapping[str, object] | None, name: str, scorer):

@@ -81,7 +81,9 @@ def summarize_cmd(source, words, ratio, sentences, candidates, compress, as_json
     document keeps coming back to, deletes low-value phrases so the summary fills
     the budget exactly, builds several candidates that trade
     coverage, fluency and redundancy differently, scores each, and prints the best:
-    the one with the highest combined score (see `boildown score --help`).
+    the one first by the ordering score (agreement with the other candidates, then
+    the combined score); the combined score printed is the summary's own, the same
+    as `boildown score` gives it alone (see `boildown score --help`).
 
     \b
     Examples:

@@ -36,7 +36,7 @@ from summarize.segment import Sentence, segment
 UNSCORED = "unscored"  # a key word with no scored blank (past the blank limit, or at offset 0)
 ORIGINS = ("provenance", "aligned")
 SETTINGS_ORDER = ("budget", "keywords", "keywords_chosen", "references", "source_words", "source_sentences",
-                  "candidates", "combined", "alignment")
+                  "candidates", "combined", "ordering", "alignment")
 
 
 @dataclass(frozen=True)
@@ -289,9 +289,10 @@ def compare(
         "keywords": evaluator.config.coverage.keywords,
         "keywords_chosen": len(keyword_set.keywords),
         "references": len(refs),
-        "combined": combine.describe(any(c.agreement is not None for c in ranked)),
+        "combined": combine.describe(),
+        "ordering": evaluator.config.order.describe() if any(c.ordering is not None for c in ranked) else None,
     }
-    extra = (combine.signature(),)
+    extra = (combine.signature(), evaluator.config.order.signature())
     return assemble(
         document, ranked, keyword_set, budget=budget, provenance=provenance, settings=settings,
         extra_signatures=extra, name=name, sentences=sentences,

@@ -60,9 +60,10 @@ class Summary:
 def _scores(candidate) -> dict | None:
     if candidate is None:
         return None
-    combine = candidate.combine
+    combine, order = candidate.combine, candidate.order
     return {
         "combined": candidate.combined,
+        "ordering": candidate.ordering,
         "coverage": candidate.coverage.share,
         "fluency": candidate.fluency.value,
         "agreement": candidate.agreement.value if candidate.agreement is not None else None,
@@ -73,7 +74,9 @@ def _scores(candidate) -> dict | None:
             "coverage": candidate.coverage.signature.to_dict(),
             "fluency": candidate.fluency.signature.to_dict(),
             "agreement": candidate.agreement.signature.to_dict() if candidate.agreement is not None else None,
-            "combined": combine.signature().to_dict() | {"formula": combine.describe(candidate.agreement is not None)},
+            "combined": combine.signature().to_dict() | {"formula": combine.describe()},
+            "ordering": (order.signature().to_dict() | {"formula": order.describe()}
+                         if candidate.ordering is not None else None),
         },
     }
 

@@ -11,7 +11,7 @@ import json
 
 from scoring import registry
 from scoring.base import Column
-from scoring.combine import CombineConfig
+from scoring.combine import CombineConfig, OrderConfig
 
 CAUTION = (
     "Scores are estimates. A summary can mislead by what it leaves out: legal, medical, "
@@ -21,6 +21,8 @@ CAUTION = (
 IDENTITY = ("rank", "name", "words", "budget", "over_budget")
 UNIT_KINDS = ("pct", "num2", "num3", "num4")  # kinds whose values lie on the 0-1 scale
 COMBINED = Column("combined", lambda c: c.combined, "num3", "combined", "Combined")
+# pool-relative, not on the 0-1 scale (kind "signed2"): the chart of ranking scores leaves it out
+ORDERING = Column("ordering", lambda c: c.ordering, "signed2", "ordering", "Ordering")
 
 
 def columns(candidates) -> list[Column]:
@@ -33,6 +35,7 @@ def columns(candidates) -> list[Column]:
     after = [name for name in ran if name not in before]
     out = [(name, col) for name in before for col in registry.scorer_class(name).columns]
     out.append((None, COMBINED))
+    out.append((None, ORDERING))
     out += [(name, col) for name in after for col in registry.scorer_class(name).columns]
     return [_Bound(name, col) for name, col in out]
 
@@ -72,6 +75,8 @@ def cell(kind: str, value) -> str:
         return f"{100 * value:5.1f}%".strip()
     if kind in ("num2", "num3", "num4"):
         return f"{value:.{kind[-1]}f}"
+    if kind == "signed2":
+        return f"{value:+.2f}"
     if kind == "words":
         return ", ".join(value) if value else "-"
     return str(value)
@@ -97,12 +102,18 @@ def rows(candidates) -> list[dict]:
 
 
 def describe(candidates, combine=None) -> list[tuple[str, str]]:
-    """(label, what it means) for every score the candidates carry, then the combined score: the
-    one wording the terminal legend, the help and the page use."""
+    """(label, what it means) for every score the candidates carry, then the combined score and,
+    where the pool has one, the ordering score: the one wording the terminal legend, the help
+    and the page use."""
     present = [name for name in registry.names() if any(c.scores.get(name) is not None for c in candidates)]
     out = [(registry.scorer_class(n).label, registry.scorer_class(n).description) for n in present]
-    formula = (combine or (candidates[0].combine if candidates else CombineConfig())).describe("agreement" in present)
+    formula = (combine or (candidates[0].combine if candidates else CombineConfig())).describe()
     out.append(("Combined", formula + "."))
+    if any(c.ordering is not None for c in candidates):
+        order = next(c.order for c in candidates if c.ordering is not None)
+        out.append(("Ordering", order.describe() + "; the candidates are ranked by it."))
+    elif candidates:
+        out.append(("Ordering", "none: it needs 3 or more candidates; ranked by the combined score."))
     return out
 
 
@@ -113,7 +124,9 @@ def legend(width: int = 76) -> str:
 
     items = [(n, registry.scorer_class(n).description) for n in registry.names()
              if registry.scorer_class(n).needs != "references"]
-    items.append(("combined", CombineConfig().describe() + "; a summary over --words ranks last."))
+    items.append(("combined", CombineConfig().describe() + "; the number to compare across runs."))
+    items.append(("ordering", OrderConfig().describe() + "; with 3 or more candidates it ranks them, else "
+                  "the combined score does; a summary over --words ranks last."))
     pad = max(len(n) for n, _ in items) + 2
     return "\n".join(textwrap.fill(text, width, initial_indent=name.ljust(pad), subsequent_indent=" " * pad)
                      for name, text in items)

@@ -193,6 +193,8 @@ def _ranking(cmp: Comparison) -> str:
     numeric = ' class="n"'
     ths = "".join(f'<th scope="col"{numeric if i != 1 else ""}>{wrap_words(h)}</th>' for i, h in enumerate(head))
     order = " within budget first, then" if cmp.budget else ""
+    basis = ("ordering score (relative to these candidates; the combined score is each one's own)"
+             if any(c.ordering is not None for c in cmp.candidates) else "combined score")
     notes = [f"<strong>{esc(label)}</strong>: {esc(meaning)}" for label, meaning in report.describe(cmp.candidates)]
     if cmp.budget:
         notes.append("A candidate over the word budget ranks after every candidate within it.")
@@ -201,7 +203,7 @@ def _ranking(cmp: Comparison) -> str:
     return (
         '<div class="scroll" role="region" aria-labelledby="ranking-cap" tabindex="0">'
         '<table class="ranking">'
-        f'<caption id="ranking-cap">Candidates ranked{order} by combined score</caption>'
+        f'<caption id="ranking-cap">Candidates ranked{order} by {basis}</caption>'
         f"<thead><tr>{ths}</tr></thead><tbody>{''.join(rows)}</tbody></table></div>\n"
         f"{why}"
         f'<ul class="notes">{"".join(f"<li>{n}</li>" for n in notes)}</ul>'
@@ -342,6 +344,7 @@ def _settings(cmp: Comparison) -> str:
         "source_sentences": "Source sentences",
         "candidates": "Candidates",
         "combined": "Combined score",
+        "ordering": "Ordering score",
         "alignment": "Sentence links",
     }
     items = []

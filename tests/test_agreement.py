@@ -53,11 +53,12 @@ def test_score_one_against_given_others():
         AgreementScorer().score(A, reference=[])
 
 
-def test_too_few_candidates_gives_none_and_combined_leaves_it_out():
+def test_too_few_candidates_gives_none_and_the_combined_score_never_reads_agreement():
     assert AgreementScorer().score_many([A, B]) == [None, None]
-    # without agreement the formula is coverage and fluency alone, 3:1
-    assert combined_score(0.4, 0.8) == pytest.approx((0.375 * 0.4 + 0.125 * 0.8) / 0.5, abs=TOL)
-    assert combined_score(0.4, 0.8, 0.6) == pytest.approx(0.5 * 0.6 + 0.375 * 0.4 + 0.125 * 0.8, abs=TOL)
+    # the combined score is coverage and fluency alone, 3:1, whatever the pool
+    assert combined_score(0.4, 0.8) == pytest.approx(0.75 * 0.4 + 0.25 * 0.8, abs=TOL)
+    with pytest.raises(ValueError, match="ordering score"):
+        CombineConfig((("agreement", 0.5), ("coverage", 0.5)))
 
 
 def test_empty_candidate_agrees_with_nothing():
@@ -68,8 +69,8 @@ def test_empty_candidate_agrees_with_nothing():
 
 def test_describe_and_signature():
     c = CombineConfig()
-    assert c.describe() == "0.5 agreement + 0.375 coverage + 0.125 fluency"
-    assert c.describe(agreement=False) == "0.75 coverage + 0.25 fluency (agreement needs 3 or more candidates)"
+    assert c.describe().startswith("0.75 coverage + 0.25 fluency (")
+    assert "agreement" not in c.describe()
     from scoring.base import package_version, project_version
 
     assert str(AgreementScorer().signature()) == (

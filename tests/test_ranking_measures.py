@@ -44,10 +44,13 @@ def test_agreement_ordering_equals_the_tools_agreement_scorer(rouge):
 def test_pick_is_the_candidate_the_tool_would_return(rouge):
     own = TEXTS[:3]
     agreement = [a.value for a in AgreementScorer().score_many(own)]
-    combined = [combined_score(c["coverage"], c["fluency"], a) for c, a in zip(CANDIDATES[:3], agreement)]
-    expected = CANDIDATES[max(range(3), key=combined.__getitem__)]["rouge2"]
+    combined = [combined_score(c["coverage"], c["fluency"]) for c in CANDIDATES[:3]]
+    z = lambda xs: [(x - sum(xs) / len(xs)) / (sum((y - sum(xs) / len(xs)) ** 2 for y in xs) / len(xs)) ** 0.5
+                    for x in xs]  # population z-scores, written out here
+    ordering = [a + 0.25 * c for a, c in zip(z(agreement), z(combined))]
+    expected = CANDIDATES[max(range(3), key=ordering.__getitem__)]["rouge2"]
     got = picks(CANDIDATES, rouge)
-    assert got["combined score (agreement, coverage, fluency)"] == pytest.approx(100 * expected)
+    assert got["ordering score (agreement, then the combined score)"] == pytest.approx(100 * expected)
     assert got["best boildown candidate (by the references)"] == pytest.approx(20.0)
     assert got["mean of boildown's candidates"] == pytest.approx(100 * (0.12 + 0.20 + 0.08) / 3)
     assert got["TextRank"] == pytest.approx(1.0)  # TextRank is never one of the candidates picked from

@@ -449,7 +449,7 @@ def test_summary_json_reports_the_combined_signature_of_the_config_that_scored_i
     from scoring.coverage import CoverageScore
     from scoring.fluency import FluencyScore
 
-    custom = CombineConfig((("agreement", 0.2), ("coverage", 0.6), ("fluency", 0.2)))
+    custom = CombineConfig((("coverage", 0.6), ("fluency", 0.4)))
     evaluator = Evaluator(EvalConfig(combine=custom))
     sig = Signature("fake", ())
     coverage = [CoverageScore(s, s, s, 0.0, 0.0, 0.0, 0.0, 3, 3, (), sig) for s in (0.5, 0.3)]
@@ -458,5 +458,5 @@ def test_summary_json_reports_the_combined_signature_of_the_config_that_scored_i
     monkeypatch.setattr(evaluator.fluency, "score_many", lambda texts, **_: fluency)
     ranked = evaluator.evaluate([("a", "x"), ("b", "y")], source="The board met and approved the ban.")
     signature = _scores(ranked[0])["signatures"]["combined"]
-    assert signature == custom.signature().to_dict() | {"formula": custom.describe(False)}
-    assert signature != CombineConfig().signature().to_dict() | {"formula": CombineConfig().describe(False)}
+    assert signature == custom.signature().to_dict() | {"formula": custom.describe()}
+    assert signature != CombineConfig().signature().to_dict() | {"formula": CombineConfig().describe()}
