@@ -100,3 +100,25 @@ def test_an_empty_summary_contains_nothing():
 def test_name_share_is_validated():
     with pytest.raises(ValueError, match="name_share"):
         KeywordConfig(name_share=1.5)
+
+
+# Pairs written for this project on the demo documents (bench/data/keyword_pairs.jsonl, invented
+# text): a findings-carrying abstract against one that only names places, people and plant. The
+# issue's target is a margin of at least 10 points of coverage on every pair; the bench
+# (bench/keyword_pairs.py) runs all of them, this test the pairs on the shorter documents.
+@pytest.mark.models
+@pytest.mark.parametrize("name", ["drought-findings", "drought-lessons", "incident-findings"])
+def test_findings_abstract_out_covers_a_names_only_abstract_by_ten_points(name):
+    from bench.keyword_pairs import load_pairs
+    from scoring.coverage import CoverageScorer
+    from summarize.reading import read
+
+    pair = next(p for p in load_pairs() if p["name"] == name)
+    source = read(DEMO / pair["document"]).text
+    good, weak = CoverageScorer().score_many([pair["good"], pair["weak"]], source=source)
+    assert 100 * (good.share - weak.share) >= 10.0
+    # the explanation is true: a key word the summary contains is never reported missed
+    for result, text in ((good, pair["good"]), (weak, pair["weak"])):
+        for k in result.keywords:
+            assert not (k.in_summary and k.status == "missed")
+            assert k.in_summary == "" or k.in_summary.lower() in text.lower()
