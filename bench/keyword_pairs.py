@@ -66,17 +66,18 @@ def run_pairs(scorer, pairs: list[dict], rows: list[dict]) -> list[dict]:
     return out
 
 
-def run_squality(scorer, stories: list, rows: list[dict]) -> list[dict]:
+def run_squality(scorer, stories: list, rows: list[dict], which: range | None = None) -> list[dict]:
     from scoring.text import count_words
 
     out = []
-    for n, ex in enumerate(stories):
+    for n in which if which is not None else range(len(stories)):
+        ex = stories[n]
         own = ex.references[0]
         other = " ".join(stories[(n + 1) % len(stories)].references[0].split()[: count_words(own)])
         mine, theirs = scorer.score_many([own, other], source=ex.source_text)
         rows += rows_of("squality", ex.source_text, own, mine) + rows_of("squality", ex.source_text, other, theirs)
         out.append({"story": n, "own": round(100 * mine.share, 1), "other": round(100 * theirs.share, 1)})
-        print(f"\r  SQuALITY dev {n + 1}/{len(stories)}", end="", file=sys.stderr)
+        print(f"  SQuALITY dev story {n}: own {out[-1]['own']:.1f} other {out[-1]['other']:.1f}", file=sys.stderr)
     print(file=sys.stderr)
     return out
 
@@ -84,7 +85,10 @@ def run_squality(scorer, stories: list, rows: list[dict]) -> list[dict]:
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--stories", type=int, default=25, help="SQuALITY dev stories (25 = all)")
+    parser.add_argument("--start", type=int, default=0, help="first story to score (the other story is still the next)")
     parser.add_argument("--rows", type=Path, default=ROWS)
+    parser.add_argument("--skip-pairs", action="store_true", help="SQuALITY only (e.g. to run the parts in parallel)")
+    parser.add_argument("--name", default="keyword_pairs", help="results file name under bench/results/")
     args = parser.parse_args(argv)
 
     from scoring.coverage import CoverageScorer
@@ -92,19 +96,19 @@ def main(argv=None):
     scorer = CoverageScorer()
     rows: list[dict] = []
     started = time.perf_counter()
-    pairs = run_pairs(scorer, load_pairs(), rows)
+    pairs = [] if args.skip_pairs else run_pairs(scorer, load_pairs(), rows)
     try:
-        stories = data.squality("dev")[: args.stories]
+        stories = data.squality("dev")
     except data.DataMissing as exc:
         print(f"skipped SQuALITY: {exc}")
         stories = []
-    own = run_squality(scorer, stories, rows)
+    own = run_squality(scorer, stories, rows, range(args.start, min(len(stories), args.start + args.stories)))
     margins = [p["margin"] for p in pairs]
     wins = sum(s["own"] > s["other"] for s in own)
     summary = {
         "pairs": len(pairs),
-        "pairs_min_margin": min(margins),
-        "pairs_mean_margin": round(sum(margins) / len(margins), 1),
+        "pairs_min_margin": min(margins) if margins else None,
+        "pairs_mean_margin": round(sum(margins) / len(margins), 1) if margins else None,
         "pairs_at_target": sum(m >= PAIR_MARGIN for m in margins),
         "stories": len(own),
         "own_wins": wins,
@@ -115,7 +119,7 @@ def main(argv=None):
     signature = str(scorer.signature())
     args.rows.write_text(json.dumps({"signature": signature, "rows": rows}))
     print(json.dumps(summary, indent=1))
-    save("keyword_pairs", {"summary": summary, "pairs": pairs, "squality": own, "signature": signature,
+    save(args.name, {"summary": summary, "pairs": pairs, "squality": own, "signature": signature,
                            "seconds": round(time.perf_counter() - started, 1)})
 
 

@@ -65,12 +65,14 @@ def table(rows: list[dict]) -> dict:
 
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    parser.add_argument("--rows", type=Path, default=ROWS, help="evidence written by bench/keyword_pairs.py")
+    parser.add_argument("--rows", type=Path, nargs="+", default=[ROWS], help="evidence written by bench/keyword_pairs.py")
     args = parser.parse_args(argv)
-    if not args.rows.exists():
-        print(f"skipped: no evidence at {args.rows}; run bench/keyword_pairs.py first")
+    missing = [str(p) for p in args.rows if not p.exists()]
+    if missing:
+        print(f"skipped: no evidence at {', '.join(missing)}; run bench/keyword_pairs.py first")
         return
-    saved = json.loads(args.rows.read_text())
+    parts = [json.loads(p.read_text()) for p in args.rows]
+    saved = {"signature": parts[0]["signature"], "rows": [r for part in parts for r in part["rows"]]}
     result = table(saved["rows"])
     for kind, block in result.items():
         print(f"\n{kind}: {block['judgements']} key-word judgements, {block['contained_share']:.0%} contained")

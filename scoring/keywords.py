@@ -15,7 +15,7 @@ Key words are content a reader would name, so some words never qualify:
   verb or adjective found in at least ``UBIQUITY_SHARE`` of ``UBIQUITY_PARTS`` equal parts of
   the text ("water" in a water report); names are exempt (the people and places a story is
   about are what a reader names).
-Proper nouns take at most ``NAME_SHARE`` of the key words, so that names (which are rare in
+Names (proper nouns, or words capitalised inside a sentence) take at most ``NAME_SHARE`` of the key words, so that names (which are rare in
 general English and so rank high) leave room for the findings.
 
 Senses: a lemma is lower-cased unless the source writes it as an acronym (all capitals, two to
@@ -157,10 +157,19 @@ def is_unit(token) -> bool:
     return before.like_num or any(ch.isdigit() for ch in before.text)
 
 
+def is_name(token) -> bool:
+    """A proper noun by the tagger, or a capitalised word inside a sentence (the tagger reads some
+    invented names as verbs: "Greyling" -> "greyle")."""
+    return token.pos_ == "PROPN" or (token.text[:1].isupper() and not token.is_sent_start)
+
+
 def sense(token) -> str:
-    """The key a word is counted under: its lemma lower-cased, an acronym as written."""
+    """The key a word is counted under: its lemma lower-cased (a name's surface, lower-cased:
+    names are not lemmatised), an acronym as written."""
     if ACRONYM.match(token.text):
         return token.text
+    if is_name(token):
+        return token.text.lower()
     return (token.lemma_ or token.text).lower()
 
 
@@ -190,10 +199,11 @@ def _choose_cached(text: str, config: KeywordConfig) -> KeywordSet:
             continue  # numbers and years alone
         if is_unit(token):
             continue
+        proper = is_name(token)
         key = sense(token)
-        if token.pos_ != "PROPN" and zipf_frequency(key.lower(), "en") > MAX_ZIPF:
+        if not proper and zipf_frequency(key.lower(), "en") > MAX_ZIPF:
             continue
-        as_name[key] = as_name.get(key, 0) + (token.pos_ == "PROPN")
+        as_name[key] = as_name.get(key, 0) + proper
         spans.setdefault(key, []).append((token.idx, token.idx + len(surface)))
     # a key tagged a proper noun in most of its occurrences counts as a name
     names = {key for key, where in spans.items() if 2 * as_name[key] > len(where)}

@@ -30,7 +30,7 @@ def test_dense_choice_worked_example():
     assert _dense_choice([[0, 1000, 2000], [5000, 6000, 7000, 8000]], 10) == {0: 1, 1: 1}
 
 
-@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
+@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"credit": "some"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
 def test_config_is_validated(bad):
     with pytest.raises(ValueError):
         CoverageConfig(**bad)
@@ -110,7 +110,7 @@ def test_signature_text():
     sig = str(CoverageScorer().signature())
     assert sig == (
         f"coverage(model=smollm2-135m@{short_checksum('causal')}, dtype={fast_dtype()}, keywords=40, key_rule=2, "
-        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, lowercase=yes) "
+        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, credit=contained, lowercase=yes) "
         f"on boildown {package_version('boildown')}, torch {package_version('torch')}, "
         f"transformers {package_version('transformers')}, spacy {package_version('spacy')}"
     )
