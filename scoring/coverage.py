@@ -16,8 +16,9 @@ word, the occurrence whose window of left context overlaps the other key words' 
 (``_dense_choice``), so fewer source tokens are read per summary; "every" blanks every
 occurrence and scores the first word piece of each. One pass scores every key word.
 
-Headline value: the mean log-probability gain per key word (nats), with ``share`` = that gain
-over the filler pass's mean surprisal, i.e. the part of the model's uncertainty about the key
+Headline value: the mean log-probability gain per key word (nats), counting the key words the
+summary contains (``credit``, see CREDITS), with ``share`` = that gain over the filler pass's
+mean surprisal about all key words, i.e. the part of the model's uncertainty about the key
 words that the summary removes (what the reports show as a percentage). On REALSumm the
 log-probability gain ranked summaries better than the accuracy gain (bench/coverage_validity.py).
 
@@ -200,8 +201,9 @@ class _Pass:
 
 class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="source", config=CoverageConfig):
     """The share of the model's uncertainty about the source's blanked key words that the summary
-    removes: how much of the source's key content it carries (the key words still missed are
-    listed). Masked key-word recovery with the packaged causal model, reading left context."""
+    removes through the key words it contains: how much of the source's key content it carries
+    (the key words it leaves out are listed as missed). Masked key-word recovery with the
+    packaged causal model, reading left context."""
 
     columns = (
         Column("coverage", lambda r: r.share, "pct", "coverage", "Coverage"),
