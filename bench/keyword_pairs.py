@@ -89,7 +89,10 @@ def main(argv=None):
     parser.add_argument("--rows", type=Path, default=ROWS)
     parser.add_argument("--skip-pairs", action="store_true", help="SQuALITY only (e.g. to run the parts in parallel)")
     parser.add_argument("--name", default="keyword_pairs", help="results file name under bench/results/")
+    parser.add_argument("--merge", type=Path, nargs="+", help="merge these results files into --name, no model run")
     args = parser.parse_args(argv)
+    if args.merge:
+        return merge(args.merge, args.name)
 
     from scoring.coverage import CoverageScorer
 
@@ -103,6 +106,10 @@ def main(argv=None):
         print(f"skipped SQuALITY: {exc}")
         stories = []
     own = run_squality(scorer, stories, rows, range(args.start, min(len(stories), args.start + args.stories)))
+    finish(pairs, own, str(scorer.signature()), rows, args.rows, args.name, round(time.perf_counter() - started, 1))
+
+
+def finish(pairs, own, signature, rows, rows_path, name, seconds):
     margins = [p["margin"] for p in pairs]
     wins = sum(s["own"] > s["other"] for s in own)
     summary = {
@@ -116,11 +123,20 @@ def main(argv=None):
         "own_mean": round(sum(s["own"] for s in own) / len(own), 1) if own else None,
         "other_mean": round(sum(s["other"] for s in own) / len(own), 1) if own else None,
     }
-    signature = str(scorer.signature())
-    args.rows.write_text(json.dumps({"signature": signature, "rows": rows}))
+    if rows_path is not None:
+        rows_path.write_text(json.dumps({"signature": signature, "rows": rows}))
     print(json.dumps(summary, indent=1))
-    save(args.name, {"summary": summary, "pairs": pairs, "squality": own, "signature": signature,
-                           "seconds": round(time.perf_counter() - started, 1)})
+    save(name, {"summary": summary, "pairs": pairs, "squality": own, "signature": signature, "seconds": seconds})
+
+
+def merge(paths: list[Path], name: str):
+    """One results file from runs made in slices (--skip-pairs/--start in parallel processes)."""
+    runs = [json.loads(p.read_text()) for p in paths]
+    if len({r["signature"] for r in runs}) != 1:
+        raise SystemExit("the runs were made with different coverage settings: not merged")
+    pairs = [p for r in runs for p in r["pairs"]]
+    own = sorted((s for r in runs for s in r["squality"]), key=lambda s: s["story"])
+    finish(pairs, own, runs[0]["signature"], [], None, name, sum(r["seconds"] for r in runs))
 
 
 if __name__ == "__main__":
