@@ -53,16 +53,11 @@ class StateText:
 # The one place the reports' legend words live (the terminal grid, the page's legend, the marks
 # in the candidates' sentences). The states themselves are the coverage scorer's; a meaning it
 # publishes in ``scoring.coverage.STATE_MEANINGS`` replaces the one written here (``state_text``).
-STATE_TEXT = {
-    "recovered": StateText("+", "+", "recovered",
-                           "The model fills in this blanked word when the summary is in front of the source, and "
-                           "not without it: the summary carries it."),
+STATE_TEXT = {  # the meanings are fallbacks: scoring.coverage.STATE_MEANINGS is what the legends show
+    "recovered": StateText("+", "+", "recovered", "The summary contains this word or a form of it."),
     "known": StateText("=", "=", "known from context",
-                       "The model fills it in from the rest of the source even without the summary, so it tells "
-                       "little about the summary."),
-    "missed": StateText("-", "\u2212", "missed",
-                        "Even with the summary in front, the model cannot fill it in: the summary most likely "
-                        "leaves it out."),
+                       "The model expects this word from the source alone, without the summary."),
+    "missed": StateText("-", "\u2212", "missed", "The summary does not contain this word or a form of it."),
     UNSCORED: StateText(".", "\u00b7", "not scored",
                         "The coverage check scored no blank of this word (its limit on blanks was reached first, "
                         "or the word only opens the text); no evidence either way."),

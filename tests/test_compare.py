@@ -75,7 +75,7 @@ def evidence(word: str, state: str) -> KeywordEvidence:
     if state == "known":
         return KeywordEvidence(word, 2, 0.7, 0.8, 2, 2)
     if state == "recovered":
-        return KeywordEvidence(word, 2, 0.05, 0.8, 0, 2)
+        return KeywordEvidence(word, 2, 0.05, 0.8, 0, 2, in_summary=word)  # the summary contains it
     return KeywordEvidence(word, 2, 0.05, 0.1, 0, 0)
 
 
@@ -308,7 +308,7 @@ def test_candidate_warnings():
 def test_grid_text_exact():
     # expected text written by hand from GOOD_STATES / WEAK_STATES above
     lines = compare_text.grid_text(fake_comparison()).splitlines()
-    legend = [f"{comparing.STATE_TEXT[s].symbol} {comparing.STATE_TEXT[s].label}: {comparing.STATE_TEXT[s].meaning}"
+    legend = [f"{comparing.state_text(s).symbol} {comparing.state_text(s).label}: {comparing.state_text(s).meaning}"
               for s in ("recovered", "known", "missed", comparing.UNSCORED)]
     assert lines == [
         "key word    #1   #2",

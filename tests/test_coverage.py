@@ -30,26 +30,49 @@ def test_dense_choice_worked_example():
     assert _dense_choice([[0, 1000, 2000], [5000, 6000, 7000, 8000]], 10) == {0: 1, 1: 1}
 
 
-@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
+@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"credit": "some"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
 def test_config_is_validated(bad):
     with pytest.raises(ValueError):
         CoverageConfig(**bad)
 
 
 @pytest.mark.parametrize(
+    "p0, p1, in_summary, status",
+    [
+        (0.30, 0.90, "", "known"),  # guessable without the summary
+        (0.30, 0.90, "hatch", "known"),  # ...even when the summary names it: it tells little
+        (0.001, 0.20, "hatch", "recovered"),  # in the summary, not expected from the source alone
+        (1e-9, 1e-9, "hatches", "recovered"),  # in the summary: never "missed", whatever p1 is
+        (0.001, 0.20, "", "missed"),  # a big gain, but the summary does not contain the word
+        (0.01, 0.04, "", "missed"),
+    ],
+)
+def test_keyword_states(p0, p1, in_summary, status):
+    assert KeywordEvidence("hatch", 1, p0, p1, 0, 0, in_summary).status == status
+
+
+@pytest.mark.parametrize(
     "p0, p1, status",
     [
-        (0.30, 0.90, "known"),  # guessable without the summary
         (0.001, 0.20, "recovered"),  # gain 5.3 nats of a surprisal of 6.9 (77%)
         (0.01, 0.04, "missed"),  # gain 1.4 nats: under the 2-nat floor
-        (1e-9, 1e-5, "recovered"),  # a rare name: 9.2 of 20.7 nats (44%) although p1 stays small
         (1e-9, 1e-6, "missed"),  # 6.9 of 20.7 nats (33%): under 40%
     ],
 )
-def test_keyword_states(p0, p1, status):
-    # recovered: the summary removes at least 40% of the surprisal and at least 2 nats
+def test_probability_states_kept_for_the_side_by_side(p0, p1, status):
+    # the rule before containment: the summary removes >= 40% of the surprisal and >= 2 nats
     assert (RECOVERED_SHARE, RECOVERED_GAIN) == (0.4, 2.0)
-    assert KeywordEvidence("w", 1, p0, p1, 0, 0).status == status
+    assert KeywordEvidence("w", 1, p0, p1, 0, 0).probability_status == status
+
+
+def test_every_state_has_a_plain_words_meaning_without_fills_in():
+    from scoring.coverage import STATE_MEANINGS
+    from summarize.compare import state_text
+
+    assert set(STATE_MEANINGS) == {"recovered", "known", "missed"}
+    for state, meaning in STATE_MEANINGS.items():
+        assert "fills in" not in meaning and "probabilit" in meaning
+        assert state_text(state).meaning == meaning  # the legend reads these
 
 
 def test_empty_source_is_refused():
@@ -73,6 +96,10 @@ def test_order_copy_good_unrelated():
     assert abs(unrelated.share) < 0.1
     assert {"hosepipe", "ashpool"} <= set(good.recovered)
     assert "korrow" in good.missed
+    # a key word the summary contains is never "missed"; one it lacks is never "recovered"
+    for k in good.keywords:
+        assert (k.status == "missed") <= (not k.in_summary)
+        assert (k.status == "recovered") <= bool(k.in_summary)
 
 
 @pytest.mark.models
@@ -82,8 +109,8 @@ def test_signature_text():
 
     sig = str(CoverageScorer().signature())
     assert sig == (
-        f"coverage(model=smollm2-135m@{short_checksum('causal')}, dtype={fast_dtype()}, keywords=40, "
-        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, lowercase=yes) "
+        f"coverage(model=smollm2-135m@{short_checksum('causal')}, dtype={fast_dtype()}, keywords=40, key_rule=2, "
+        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, credit=contained, lowercase=yes) "
         f"on boildown {package_version('boildown')}, torch {package_version('torch')}, "
         f"transformers {package_version('transformers')}, spacy {package_version('spacy')}"
     )
