@@ -19,7 +19,6 @@ from bench.common import ROOT  # noqa: E402
 from bench.results_sections import (  # noqa: E402
     BASELINE_NAMES,
     COVERAGE,
-    FLUENCY,
     PYTHON,
     QUALITY_SETS,
     ROUGE1_SAME_RUN,
@@ -104,10 +103,19 @@ def _coverage(d: dict) -> Cells:
 
 def _fluency(d: dict) -> Cells:
     c = d["correlations"]
-    tau = c[FLUENCY]["kendall_all"]
-    return (f"LongSciVerify, {d['summaries']} summaries", f"{tau:.2f}",
-            f"minus log perplexity {c['-log perplexity']['kendall_all']:.2f}"
-            + ("; **negative: our fluency does not agree with these reviewers**" if tau < 0 else ""))
+    if "summeval_summaries" not in d:  # the earlier LongSciVerify-only results file
+        tau = c["fluency value"]["kendall_all"]
+        return (f"LongSciVerify, {d['summaries']} summaries (earlier fluency value)", f"{tau:.2f}",
+                f"minus log perplexity {c['-log perplexity']['kendall_all']:.2f}"
+                + ("; **negative: it did not agree with these reviewers**" if tau < 0 else ""))
+    ours, plain = c["default (tidy)"], c["-log perplexity (as-written)"]
+    return (f"SummEval dev {d['summeval_summaries']} summaries (summary / system level); "
+            f"LongSciVerify {d['lsv_summaries']}",
+            f"{ours['summeval_summary']:.3f} / {ours['summeval_system']:.3f}; {ours['lsv_all']:.3f}",
+            f"minus log perplexity {plain['summeval_summary']:.3f} / {plain['summeval_system']:.3f}; "
+            f"{plain['lsv_all']:.3f}" + ("; **below the targets 0.25 / 0.6; 0.1**"
+                                         if ours["summeval_summary"] < 0.25 or ours["summeval_system"] < 0.6
+                                         or ours["lsv_all"] < 0.1 else ""))
 
 
 def _ranking(d: dict) -> Cells | None:
@@ -142,7 +150,7 @@ def _batch_speed(d: dict) -> Cells | None:
 ROWS = (  # measure, results file, the command that writes it, the row's other cells from its JSON
     ("coverage: Kendall tau with human LitePyramid recall, summary / system level", "coverage_validity",
      "bench/coverage_validity.py", _coverage),
-    ("fluency: Kendall tau with reviewers' fluency ratings", "fluency_validity", "bench/fluency_validity.py", _fluency),
+    ("fluency: Kendall tau with human fluency ratings", "fluency_validity", "bench/fluency_validity.py", _fluency),
     ("combined score: Kendall tau with the candidates' order by ROUGE-2 against the human summaries",
      "quality_ranking", "bench/quality.py --parts ranking --name quality_ranking", _ranking),
     ("summarizer time, 20,000-word source against 5,000-word source", "summarize_speed", "bench/summarize_speed.py",

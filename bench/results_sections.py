@@ -168,6 +168,10 @@ def coverage_settings(d: dict) -> list[str]:
 
 def keyword_states(d: dict) -> list[str]:
     """Precision of "missed" and "recovered" against containment, in use and before."""
+    if "targets" not in d:
+        return [f"The results file is from the earlier state rules ({when(d)}); the bench has not been run "
+                f"with the states in use: `{PYTHON} bench/keyword_pairs.py` then `{PYTHON} bench/keyword_states.py`.",
+                ""]
     out = [
         "How often a key word marked *missed* is really absent from the summary, and one marked "
         "*recovered* really in it (precision against the bench's own containment test: the key word's "
