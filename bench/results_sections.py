@@ -653,6 +653,32 @@ def compare_speed(d: dict) -> list[str]:
     return out + [""]
 
 
+def model_rates(d: dict) -> list[str]:
+    """Issue 21's ratios: a further candidate against the first, and each model stage against the peak."""
+    peak, load = d["peak_fp32_gflops"], d["load_average"]
+    out = [f"How close the model passes run to this machine's own limit, and what a further candidate costs, "
+           f"on a {d['source_words']:,}-word source, models in {short(d['dtype'])}, {d['torch_threads']} threads, "
+           f"medians of {d['repeats']} ({when(d)}, `BOILDOWN_DTYPE={d['dtype']} {PYTHON} bench/model_rates.py`). "
+           f"The fp32 matrix-product peak is measured in the same run, at its start and end ({peak['start']:.0f} "
+           f"and {peak['end']:.0f} GFLOPS; their mean, {peak['used']:.0f}, is the yardstick); FLOPs are counted from the "
+           "shapes actually run (`bench/flops.py`, checked against torch's FlopCounterMode in "
+           "`tests/test_flops.py`).", "",
+           "| stage | seconds | GFLOP | tokens | GFLOPS | share of peak |", "|---|---|---|---|---|---|"]
+    for name, st in d["stages"].items():
+        out.append(f"| {name} | {st['seconds']:.2f} | {st['gflop']:.1f} | {st['tokens']:,} | "
+                   f"{_gflops(st['gflops'])} | {100 * st['share_of_peak']:.0f}% |")
+    cov = d["stages"].get("coverage pass (a further candidate)")
+    out += ["", f"A further candidate's full scoring costs **{d['further_to_first']:.2f}x** the first's "
+            f"({d['further_s']:.1f} s against {d['first_s']:.1f} s; target at most 0.25x)"
+            + (f"; the coverage pass runs at **{100 * cov['share_of_peak']:.0f}%** of peak (target at least 70%)"
+               if cov else "") + ". Where the coverage pass spends its time, by operator: "
+            + ", ".join(f"{op} {100 * share:.0f}%" for op, share in d["coverage_pass_profile"][:6])
+            + f". The one-minute load average was {load['start'][0]:.1f} at the start and {load['end'][0]:.1f} at "
+            "the end on 2 cores" + ("; **a loaded machine: the ratios above are not reliable**"
+                                    if max(load["start"][0], load["end"][0]) > 3 else "") + ".", ""]
+    return out
+
+
 def assess(d: dict) -> list[str]:
     se = d["summeval"]
     refs = se.get("references_per_row", 11)
@@ -708,6 +734,7 @@ SECTIONS = (
             "bench/quality.py --parts compression --compression-limit 20 --name quality_compression", compression),
     Section("Summarizer speed and memory", "summarize_speed", "bench/summarize_speed.py", summarizer_speed),
     Section("The word budget", "budget_check", "bench/budget_check.py", budget),
+    Section("Model passes against this machine's peak", "model_rates", "bench/model_rates.py", model_rates),
     Section("Batch throughput", "batch_speed", "bench/batch_speed.py", batch),
     Section("The editor's comparison against scoring", "compare_speed", "bench/compare_speed.py", compare_speed),
     Section("Assessing systems", "assess_bench", "bench/assess_bench.py", assess),
