@@ -1,10 +1,13 @@
-"""Helpers shared by the benchmark scripts: data paths, Kendall tau, timing, result files."""
+"""Helpers shared by the benchmark scripts: data paths, Kendall tau, timing, result files, the
+timing benches' command line and their emptying of per-source caches."""
 
 from __future__ import annotations
 
+import argparse
 import json
 import os
 import platform
+import statistics
 import sys
 import time
 from pathlib import Path
@@ -52,3 +55,28 @@ def matmul_peak_gflops(dtype: str = "float32", size: int = 2048, repeats: int = 
     for _ in range(repeats):
         a @ a
     return repeats * 2 * size**3 / (time.perf_counter() - start) / 1e9
+
+
+def median_peak(dtype: str = "float32", times: int = 3, **options) -> float:
+    """The median of ``times`` measurements of ``matmul_peak_gflops(dtype, **options)``."""
+    return statistics.median(matmul_peak_gflops(dtype, **options) for _ in range(times))
+
+
+def timing_args(doc: str, argv=None, **options: int) -> argparse.Namespace:
+    """A timing bench's command line: ``--repeats`` (default 3), then an integer option per
+    entry of ``options`` (``words=5000`` gives ``--words``, default 5000); ``doc`` is its help."""
+    parser = argparse.ArgumentParser(description=doc, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("--repeats", type=int, default=3)
+    for name, default in options.items():
+        parser.add_argument(f"--{name}", type=int, default=default)
+    return parser.parse_args(argv)
+
+
+def forget_sources() -> None:
+    """Empty the per-process caches of key words and verb checks, so nothing of a source is
+    carried from one repeat to the next (the models stay loaded)."""
+    from scoring.fluency import _has_verb
+    from scoring.keywords import _choose_cached
+
+    _choose_cached.cache_clear()
+    _has_verb.cache_clear()

@@ -44,6 +44,12 @@ def minimal_pdf(lines: list[str], cyclic: bool = False) -> bytes:
                b"<< /Type /Font /Subtype /Type1 /BaseFont /Helvetica >>"]
     if cyclic:
         objects += [b"[7 0 R]", b"<< /Next 6 0 R /Self 7 0 R /P 3 0 R >>"]
+    return pdf_file(objects)
+
+
+def pdf_file(objects: list[bytes]) -> bytes:
+    """A PDF file of ``objects`` (numbered from 1, the first the catalog): header, the objects,
+    the cross-reference table and the trailer. tests/test_reading.py builds its PDFs with it."""
     out = bytearray(b"%PDF-1.4\n")
     offsets = []
     for number, body in enumerate(objects, 1):

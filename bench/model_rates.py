@@ -19,7 +19,6 @@ The load average at the start and end is recorded: the machine is shared.
 
 from __future__ import annotations
 
-import argparse
 import os
 import statistics
 import sys
@@ -27,7 +26,7 @@ import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from bench.common import ROOT, matmul_peak_gflops, save  # noqa: E402
+from bench.common import ROOT, forget_sources, median_peak, save, timing_args  # noqa: E402
 from bench.coverage_speed import corpus, words  # noqa: E402
 from bench.flops import FlopCounter  # noqa: E402
 
@@ -40,10 +39,6 @@ def timed(fn, repeats: int):
         value = fn()
         times.append(time.perf_counter() - start)
     return statistics.median(times), times, value
-
-
-def peak(repeats: int = 3) -> float:
-    return statistics.median(matmul_peak_gflops("float32") for _ in range(repeats))
 
 
 def profile_shares(fn, top: int = 8) -> list[tuple[str, float]]:
@@ -59,17 +54,13 @@ def profile_shares(fn, top: int = 8) -> list[tuple[str, float]]:
 
 
 def main(argv=None):
-    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    parser.add_argument("--repeats", type=int, default=3)
-    parser.add_argument("--words", type=int, default=5000)
-    args = parser.parse_args(argv)
+    args = timing_args(__doc__, argv, words=5000)
 
     import torch
 
     from scoring.coverage import CoverageScorer
     from scoring.evaluate import EvalConfig, Evaluator
-    from scoring.fluency import FluencyScorer, _has_verb
-    from scoring.keywords import _choose_cached
+    from scoring.fluency import FluencyScorer
     from scoring.models import causal_in_dtype, load_causal, resolve_dtype, set_threads
     from scoring.text import split_sentences
     from summarize.embed import _encoder, embed
@@ -83,13 +74,12 @@ def main(argv=None):
     source = corpus(args.words)
     summary = words((ROOT / "demo_docs" / "annual_water_quality_report.abstract_good.txt").read_text(), 150)
     others = [words(corpus(6000).split("\n\n", 3 + k)[-1], 150) for k in range(args.repeats + 1)]
-    peak_start = peak()
+    peak_start = median_peak()
 
     # ---- item 1: a fresh evaluator, the first candidate, then further ones
     first, further = [], []
     for r in range(args.repeats):
-        _choose_cached.cache_clear()
-        _has_verb.cache_clear()
+        forget_sources()
         ev = Evaluator(EvalConfig())
         start = time.perf_counter()
         ev.evaluate([("first", summary)], source=source)
@@ -133,7 +123,7 @@ def main(argv=None):
     stage("fluency reference (source sentences)", lambda: flu.model.logprobs([[s] for s in _sample(sentences, 24)]), causal)
     stage("encoder (source sentences)", lambda: embed(sentences), encoder)
     shares = profile_shares(lambda: cov._runs([prefix], plan))
-    peak_end = peak()
+    peak_end = median_peak()
     load_end = os.getloadavg()
     yardstick = statistics.median([peak_start, peak_end])
     for name, s in stages.items():

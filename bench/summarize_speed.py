@@ -14,7 +14,6 @@ caches of key words and verb checks, so nothing of the source is cached between 
 
 from __future__ import annotations
 
-import argparse
 import os
 import resource
 import statistics
@@ -23,19 +22,14 @@ import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from bench.common import matmul_peak_gflops, save  # noqa: E402
+from bench.common import forget_sources, median_peak, save, timing_args  # noqa: E402
 from bench.coverage_speed import corpus  # noqa: E402
 
 
 def main(argv=None):
-    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
-    parser.add_argument("--repeats", type=int, default=3)
-    parser.add_argument("--candidates", type=int, default=8)
-    args = parser.parse_args(argv)
+    args = timing_args(__doc__, argv, candidates=8)
 
     from scoring.evaluate import Evaluator
-    from scoring.fluency import _has_verb
-    from scoring.keywords import _choose_cached
     from scoring.models import causal_in_dtype, fast_dtype, load_causal, load_encoder, load_spacy, set_threads
     from summarize.embed import _encoder
     from summarize.pipeline import summarize
@@ -52,8 +46,7 @@ def main(argv=None):
         for _ in range(args.repeats):
             # nothing of this source carried over from the last repeat: its key words and the
             # verb checks of its sentences are cached per process, so those caches are emptied
-            _choose_cached.cache_clear()
-            _has_verb.cache_clear()
+            forget_sources()
             marks = []
             start = time.perf_counter()
             result = summarize(doc, 150, candidates=args.candidates, evaluator=Evaluator(),
@@ -66,10 +59,10 @@ def main(argv=None):
               f"median {results[n]['median_s']:.1f} s over {args.repeats} runs")
     peak_gb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024 / 1024
     # the machine's yardstick, same run: times on another machine scale roughly with it
-    matmul = statistics.median(matmul_peak_gflops("float32") for _ in range(3))
+    matmul = median_peak("float32")
     # bf16 on a small product where it is emulated (a full-size one would take minutes there)
     small = {} if dtype == "bfloat16" else {"size": 256, "repeats": 2}
-    matmul_bf16 = statistics.median(matmul_peak_gflops("bfloat16", **small) for _ in range(3))
+    matmul_bf16 = median_peak("bfloat16", **small)
     ratio = results[20000]["median_s"] / results[5000]["median_s"]
     print(f"20,000 / 5,000 words: {ratio:.2f}x; peak memory {peak_gb:.2f} GB (max resident set); "
           f"matmul {matmul:.0f} GFLOPS fp32, {matmul_bf16:.1f} bf16; models in {dtype}")

@@ -32,6 +32,8 @@ import math
 import re
 from dataclasses import dataclass
 
+from scoring.text import stem
+
 # The version of the key-word rules (which words qualify, how containment is read); coverage's
 # signature carries it, so results made under other rules are not reused.
 KEY_RULE = 2
@@ -229,18 +231,6 @@ def _choose_cached(text: str, config: KeywordConfig) -> KeywordSet:
     return KeywordSet(tuple(chosen), text_hash(text))
 
 
-@functools.lru_cache(maxsize=1)
-def _stemmer():
-    from nltk.stem.porter import PorterStemmer
-
-    return PorterStemmer()
-
-
-@functools.lru_cache(maxsize=200_000)
-def _stem(word: str) -> str:
-    return _stemmer().stem(word)
-
-
 def summary_words(summary: str) -> dict[str, str]:
     """A summary's words: lower-cased form and stem -> the word as the summary writes it, plus
     acronyms as written (for keys that keep their capitals)."""
@@ -255,7 +245,7 @@ def summary_words(summary: str) -> dict[str, str]:
         low = word.lower()
         out.setdefault(low, word)
         if low.isalpha():
-            out.setdefault("\1" + _stem(low), word)
+            out.setdefault("\1" + stem(low), word)
     return out
 
 
@@ -269,6 +259,6 @@ def contains(keyword: Keyword, source: str, words: dict[str, str]) -> str:
         if form in words:
             return words[form]
     for form in sorted(forms):
-        if form.isalpha() and ("\1" + _stem(form)) in words:
-            return words["\1" + _stem(form)]
+        if form.isalpha() and ("\1" + stem(form)) in words:
+            return words["\1" + stem(form)]
     return ""

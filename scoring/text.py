@@ -8,10 +8,14 @@ Sentence splitting uses syntok's rule-based segmenter (no data download), which 
 abbreviations such as "Dr.", "e.g." and "No. 3" inside their sentences. It lives here, at the
 bottom of the package graph, so that the scorers and the summarizer split alike and
 ``scoring`` never imports ``summarize``.
+
+Stemming is NLTK's Porter stemmer (Porter, 1980), one cached instance for the key words'
+matching and the summarizer's tf-idf terms alike.
 """
 
 from __future__ import annotations
 
+import functools
 import re
 
 
@@ -72,3 +76,16 @@ def _syntok_offsets(text: str) -> list[tuple[str, int]]:
             if clean:
                 out.append((clean, start))
     return out
+
+
+@functools.lru_cache(maxsize=1)
+def _stemmer():
+    from nltk.stem.porter import PorterStemmer
+
+    return PorterStemmer()
+
+
+@functools.lru_cache(maxsize=200_000)
+def stem(word: str) -> str:
+    """Porter stem of a lowercased word (cached: documents repeat their words)."""
+    return _stemmer().stem(word)

@@ -186,6 +186,17 @@ def _progress(quiet: bool):
     return Progress(quiet)
 
 
+def _resumable(run, interrupted: type[BaseException], tally):
+    """``run()``'s result; when it raises ``interrupted`` (Ctrl-C or SIGTERM), the tally so far
+    on stdout, how to resume on stderr, and exit status 130. Used by batch and assess."""
+    try:
+        return run()
+    except interrupted as stop:
+        click.echo(tally(stop.result))
+        click.echo("boildown: interrupted; run the same command again to resume", err=True)
+        sys.exit(130)
+
+
 @main.command()
 @click.argument("source", type=click.Path(dir_okay=False))
 @click.argument("summaries", nargs=-1, required=True)
@@ -370,13 +381,9 @@ def batch_cmd(input_dir, out_dir, words, ratio, candidates, include, exclude, wo
     config = _batch.BatchConfig(words=words, ratio=ratio, candidates=candidates, include=include, exclude=exclude,
                                 workers=workers, force=force, engine=engine, scheduler=scheduler,
                                 any_language=any_language)
-    try:
-        result = _batch.run_batch(input_dir, out_dir, config, job=_batch.job_from_spec(job_spec),
-                                  progress=_progress(quiet), bar=not quiet)
-    except _batch.BatchInterrupted as stop:
-        click.echo(_batch.tally_text(stop.result))
-        click.echo("boildown: interrupted; run the same command again to resume", err=True)
-        sys.exit(130)
+    result = _resumable(lambda: _batch.run_batch(input_dir, out_dir, config, job=_batch.job_from_spec(job_spec),
+                                                 progress=_progress(quiet), bar=not quiet),
+                        _batch.BatchInterrupted, _batch.tally_text)
     click.echo(json.dumps(result.to_dict(), indent=2) if as_json else _batch.tally_text(result))
     if result.failed:
         raise Failure(f"{result.failed} of {result.total} document(s) failed; the reasons are above and in "
@@ -429,12 +436,9 @@ def assess_cmd(rows, out_dir, keywords, metric, test, samples, seed, workers, fo
     config = assess.AssessConfig(keywords=keywords, workers=workers, engine=engine, scheduler=scheduler, force=force,
                                  any_language=any_language, samples=samples, seed=seed, test=test, metric=metric)
     try:
-        result = assess.run_assess(rows, out_dir, config, job=assess.job_from_spec(job_spec),
-                                   progress=_progress(quiet), bar=not quiet)
-    except assess.AssessInterrupted as stop:
-        click.echo(assess.tally_text(stop.result))
-        click.echo("boildown: interrupted; run the same command again to resume", err=True)
-        sys.exit(130)
+        result = _resumable(lambda: assess.run_assess(rows, out_dir, config, job=assess.job_from_spec(job_spec),
+                                                      progress=_progress(quiet), bar=not quiet),
+                            assess.AssessInterrupted, assess.tally_text)
     except _batch.BatchError as exc:
         raise Failure(str(exc)) from None
     if as_json:

@@ -15,6 +15,8 @@ from collections import Counter
 
 import numpy as np
 
+from scoring.text import stem  # the one cached Porter stemmer; importers of summarize.embed.stem get it
+
 _WORD = re.compile(r"[a-z0-9]+(?:['-][a-z0-9]+)*")
 
 # A compact English stop list (function words), written for this project.
@@ -32,19 +34,6 @@ STOPWORDS = frozenset(
 
 def words(text: str) -> list[str]:
     return _WORD.findall(text.lower())
-
-
-@functools.lru_cache(maxsize=1)
-def _stemmer():
-    from nltk.stem.porter import PorterStemmer
-
-    return PorterStemmer()
-
-
-@functools.lru_cache(maxsize=200_000)
-def stem(word: str) -> str:
-    """Porter stem of a lowercased word (cached: documents repeat their words)."""
-    return _stemmer().stem(word)
 
 
 def terms(text: str) -> list[str]:

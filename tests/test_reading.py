@@ -1,6 +1,7 @@
 """Reading documents: each format's blocks, decoding, and every error path's one-line message.
 
-Fixtures live in tests/data/reading/ (invented texts); the PDF and DOCX files are built here.
+Fixtures live in tests/data/reading/ (invented texts); the PDF and DOCX files are built here
+(PDFs laid out by bench/fuzz_readers.pdf_file, which the fuzzing bench uses too).
 """
 
 from __future__ import annotations
@@ -13,6 +14,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from bench.fuzz_readers import pdf_file
 from summarize import reading
 from summarize.reading import decode, entry
 from summarize.reading import (
@@ -67,16 +69,7 @@ def make_pdf(pages: list[list[tuple[int, str]]], gap_after: tuple[set[int], ...]
         )
         objects.append(b"<< /Length %d >>\nstream\n" % len(stream) + stream + b"\nendstream")
     objects.append(b"<< /Type /Font /Subtype /Type1 /BaseFont /Helvetica /Encoding /WinAnsiEncoding >>")
-    out = bytearray(b"%PDF-1.4\n")
-    offsets = []
-    for number, body in enumerate(objects, 1):
-        offsets.append(len(out))
-        out += b"%d 0 obj\n" % number + body + b"\nendobj\n"
-    xref = len(out)
-    out += b"xref\n0 %d\n0000000000 65535 f \n" % (len(objects) + 1)
-    out += b"".join(b"%010d 00000 n \n" % offset for offset in offsets)
-    out += b"trailer\n<< /Size %d /Root 1 0 R >>\nstartxref\n%d\n%%%%EOF\n" % (len(objects) + 1, xref)
-    return bytes(out)
+    return pdf_file(objects)
 
 
 GAUGE_NOTE = [

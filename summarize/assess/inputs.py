@@ -192,3 +192,4 @@ class Group:
     data: bytes
     format: str | None
     rows: list[Row] = field(default_factory=list)
+    attempts: int = 0  # tries lost to a worker process that died (the run's dispatch counts them)

@@ -21,6 +21,7 @@ from dataclasses import dataclass, replace
 from typing import ClassVar
 
 from summarize.batch.worker import JobResult
+from summarize.batch.worker import job_from_spec as batch_job_from_spec
 
 LEFT_OUT = ("agreement",)
 
@@ -126,16 +127,4 @@ class OverlapJob:
 
 def job_from_spec(spec: str):
     """``assess`` or ``overlap[:SECONDS]`` (the hidden ``--job`` option)."""
-    from summarize.batch.errors import BatchError
-
-    name, _, arg = (spec or "assess").partition(":")
-    if name == "assess" and not arg:
-        return AssessJob()
-    if name == "overlap":
-        try:
-            delay = float(arg) if arg else 0.0
-        except ValueError:
-            delay = -1.0
-        if delay >= 0:
-            return OverlapJob(delay)
-    raise BatchError(f"unknown job {spec!r}; use 'assess' or 'overlap[:SECONDS]'")
+    return batch_job_from_spec(spec, real=AssessJob, stand_in=OverlapJob)

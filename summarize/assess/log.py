@@ -17,7 +17,8 @@ import json
 import os
 from pathlib import Path
 
-from summarize.files import fsync_dir, write_atomic
+from summarize.batch.manifest import open_log
+from summarize.files import write_atomic
 
 LOG_NAME, CSV_NAME = "results.jsonl", "results.csv"
 IDENTITY = ("id", "system", "status", "words", "where")
@@ -41,30 +42,13 @@ class ResultsLog:
 
     def open(self) -> list[str]:
         """Cut a torn last line, load the records, open for appending; return notices."""
-        notices = []
-        if self.path.exists():
-            data = self.path.read_bytes()
-            if data and not data.endswith(b"\n"):
-                keep = data.rfind(b"\n") + 1
-                with open(self.path, "r+b") as handle:
-                    handle.truncate(keep)
-                    handle.flush()
-                    os.fsync(handle.fileno())
-                data = data[:keep]
-                notices.append(f"cut an incomplete last line from {self.path} (a run was stopped while writing "
-                               "it); that row will be scored again")
-            bad = 0
-            for line in data.decode("utf-8", "replace").splitlines():
-                try:
-                    record = json.loads(line)
-                    self.latest[(record["key"], record["settings_key"])] = record
-                except (ValueError, KeyError, TypeError):
-                    bad += line.strip() != ""
-            if bad:
-                notices.append(f"ignored {bad} unreadable line(s) in {self.path}")
-        self._fd = os.open(self.path, os.O_WRONLY | os.O_APPEND | os.O_CREAT, 0o644)
-        fsync_dir(self.out_dir)
+        self._fd, notices = open_log(self.path, self._take, redo="that row will be scored again",
+                                     unreadable=(ValueError, KeyError, TypeError))
         return notices
+
+    def _take(self, line: str) -> None:
+        record = json.loads(line)
+        self.latest[(record["key"], record["settings_key"])] = record
 
     def close(self) -> None:
         if self._fd is not None:

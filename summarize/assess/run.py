@@ -2,10 +2,11 @@
 batch engines), record each row once, then write the per-row results, the per-system table and
 the chart.
 
-Borrowed from the batch package, not copied: the output folder's lock (``OutputLock``), Ctrl-C
-and SIGTERM handling (``StopSignals``), the engines (``local`` worker processes, ``dask``) and
-their worker (``process_task``, which reads the source from its bytes and runs the job), the
-atomic file writer. Crash safety is the batch run's: only this process writes the folder; a
+Borrowed from the batch package, not copied: the output folder's lock (``OutputLock``), the
+run's loop (``Loop``: the dispatch and its retries after a worker process dies, Ctrl-C and
+SIGTERM, the progress bar), the engines (``local`` worker processes, ``dask``) and their worker
+(``process_task``, which reads the source from its bytes and runs the job), the atomic file
+writer. Crash safety is the batch run's: only this process writes the folder; a
 row's record is one fsynced line, appended once its source's task has come back; a re-run
 skips every row already scored under the same settings and texts.
 """
@@ -15,31 +16,33 @@ from __future__ import annotations
 import hashlib
 import os
 import time
-from collections import deque
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable
+from typing import Callable, ClassVar
 
 from summarize import reading
 from summarize.assess import inputs as _inputs
 from summarize.assess.config import AssessConfig
 from summarize.assess.log import ResultsLog, row_key, write_csv
-from summarize.batch.config import settings_key
+from summarize.batch.config import config_from, settings_key
 from summarize.batch.discovery import read_bytes
-from summarize.batch.engines import WorkerLost, engine_class
+from summarize.batch.engines import engine_class
 from summarize.batch.errors import BatchError
 from summarize.batch.lock import OutputLock
-from summarize.batch.stop import Stopped, StopSignals
+from summarize.batch.loop import Loop, RunInterrupted, Tally
 from summarize.batch.worker import Outcome, Task
-
-_RETRIES_AFTER_WORKER_DEATH = 1
 
 
 @dataclass(frozen=True)
-class AssessResult:
+class AssessResult(Tally):
     """The tally of one run and where its files are. ``scored`` counts rows scored in this run,
     ``skipped`` rows reused from an earlier one, ``failed`` rows with a problem (``failures``:
-    (where, one-line reason))."""
+    (where, one-line reason)); ``per_minute``, the rows scored per minute of this run."""
+
+    made: ClassVar[str] = "scored"
+    timed: ClassVar[str] = "scored"
+    noun: ClassVar[str] = "row"
+    skipped_note: ClassVar[str] = " (scored before)"
 
     scored: int
     skipped: int
@@ -52,35 +55,19 @@ class AssessResult:
     notices: tuple[str, ...] = ()
     table: object = None  # summarize.assess.table.Table, None when no row was scored
 
-    @property
-    def total(self) -> int:
-        return self.scored + self.skipped + self.failed
-
-    @property
-    def per_minute(self) -> float | None:
-        return 60.0 * self.scored / self.seconds if self.scored and self.seconds > 0 else None
-
     def to_dict(self) -> dict:
-        rate = self.per_minute
         return {"scored": self.scored, "skipped": self.skipped, "failed": self.failed, "total": self.total,
-                "seconds": round(self.seconds, 3), "rows_per_minute": None if rate is None else round(rate, 2),
+                "seconds": round(self.seconds, 3), "rows_per_minute": self.rounded_rate(),
                 "engine": self.engine, "workers": self.workers, "files": {k: str(v) for k, v in self.files.items()},
                 "failures": [{"where": w, "error": e} for w, e in self.failures], "notices": list(self.notices)}
 
 
-class AssessInterrupted(KeyboardInterrupt):
-    """The run was stopped (Ctrl-C or SIGTERM); ``result`` holds the tally so far."""
-
-    def __init__(self, result: AssessResult):
-        super().__init__("interrupted")
-        self.result = result
+class AssessInterrupted(RunInterrupted):
+    """The run was stopped (Ctrl-C or SIGTERM); ``result`` holds the tally so far (an ``AssessResult``)."""
 
 
 def tally_text(result: AssessResult) -> str:
-    speed = f"; {result.per_minute:.1f} rows per minute" if result.per_minute else ""
-    lines = [f"scored {result.scored}, skipped {result.skipped} (scored before), failed {result.failed} "
-             f"({result.total} row(s)) in {result.seconds:.1f} s{speed}"]
-    lines += [f"failed: {error}" for _where, error in result.failures]
+    lines = result.counts_text()
     lines += [f"{what}: {path}" for what, path in result.files.items()]
     return "\n".join(lines)
 
@@ -96,10 +83,7 @@ def run_assess(source, out_dir, config: AssessConfig | None = None, *, job=None,
     SIGTERM after recording every row finished so far."""
     from summarize.assess.job import AssessJob
 
-    if config is None:
-        config = AssessConfig(**options)
-    elif options:
-        raise TypeError("give an AssessConfig or keyword options, not both")
+    config = config_from(AssessConfig, config, options)
     started = time.perf_counter()
     job = job or AssessJob()
     say = progress or (lambda _m: None)
@@ -131,38 +115,32 @@ def run_assess(source, out_dir, config: AssessConfig | None = None, *, job=None,
         lock.release()
 
 
-class _Run:
+class _Run(Loop):
+    """One run's bookkeeping on the batch run's loop: plan the sources, dispatch, record each row once."""
+
+    unit, desc, retried = "row", "boildown assess", "sources"
+
     def __init__(self, rows, out_dir, config, job, log, say, bar, notices, started):
+        super().__init__(say, bar)
         self.rows, self.out_dir, self.config, self.job, self.log = rows, out_dir, config, job, log
-        self.say, self.show_bar, self.notices, self.started = say, bar, notices, started
+        self.notices, self.started = notices, started
         self.settings = config.settings(job)
         self.key = settings_key(self.settings)
         self.run_id = time.strftime("%Y%m%dT%H%M%S") + f"-{os.getpid()}"
         self.keys: list[str | None] = [None] * len(rows)
         self.scored = self.skipped = 0
         self.failures: list[tuple[str, str]] = []
-        self.engine = None
-        self.workers = 0
-        self.bar = None
-        self.stop = StopSignals()
 
     def execute(self) -> AssessResult:
-        with self.stop:
-            try:
-                groups = self._plan()
-                if groups:
-                    self._dispatch(groups)
-            except (KeyboardInterrupt, Stopped):
-                if self.engine is not None:
-                    self.engine.close(cancel=True)
-                    self.engine = None
-                self._close_bar()
-                raise AssessInterrupted(self._result({})) from None
-            finally:
-                if self.engine is not None:
-                    self.engine.close()
-                self._close_bar()
+        self.guarded(self._plan_and_dispatch, lambda: AssessInterrupted(self._result({})))
         return self._finish()
+
+    def _plan_and_dispatch(self) -> None:
+        groups = self._plan()
+        if groups:
+            self.dispatch(self.job, self.config, groups, payload=lambda group, _queue: self._task(group),
+                          record=self._record, lost=lambda group, why: f"'{group.name}' was not scored: {why}",
+                          isolate=False, charge_in_flight=True)
 
     # ---------------------------------------------------------------- plan
 
@@ -191,7 +169,7 @@ class _Run:
         todo = len(pending) + sum(len(g.rows) for g in groups.values())
         self.say(f"{len(self.rows)} row(s), {len(groups)} source(s) to read: {todo} row(s) to do, "
                  f"{self.skipped} already scored")
-        self._open_bar(todo)
+        self.open_bar(todo)
         for n, _none, error in pending:
             self._write(n, "failed", error=error)
         return list(groups.values())
@@ -215,36 +193,6 @@ class _Run:
                 for n, row in group.rows]
         return Task(group.name, group.data, self.settings, self.config.any_language, inputs={"rows": rows},
                     format=group.format)
-
-    def _dispatch(self, groups: list[_inputs.Group]) -> None:
-        self.engine = engine_class(self.config.engine).start(self.job, self.config, len(groups), self._above_bar)
-        self.workers = self.engine.workers
-        queue = deque((g, 0) for g in groups)
-        inflight: dict = {}
-        window = max(2, 2 * self.engine.capacity)
-        while queue or inflight:
-            self.stop.check()
-            while queue and len(inflight) < window:
-                group, attempts = queue.popleft()
-                inflight[self.engine.submit(self._task(group))] = (group, attempts)
-            broken = False
-            for handle in self.engine.wait(list(inflight), timeout=0.5):
-                group, attempts = inflight.pop(handle)
-                try:
-                    outcome = self.engine.outcome(handle)
-                except WorkerLost as lost:
-                    if lost.final or attempts >= _RETRIES_AFTER_WORKER_DEATH:
-                        self._record(group, Outcome(error=f"'{group.name}' was not scored: {lost}"))
-                    else:
-                        queue.appendleft((group, attempts + 1))
-                    broken = broken or not lost.final
-                    continue
-                self._record(group, outcome)
-            if broken:
-                queue.extendleft((g, a + 1) for g, a in inflight.values())
-                inflight.clear()
-                self._above_bar("a worker process died; restarting the pool and retrying its sources")
-                self.engine.restart()
 
     def _record(self, group: _inputs.Group, outcome: Outcome) -> None:
         result = outcome.result
@@ -276,9 +224,7 @@ class _Run:
         self.log.append(record)
         if status == "failed":
             self.failures.append((row.where, error))
-        if self.bar is not None:
-            self.bar.update(1)
-            self.bar.set_postfix(failed=len(self.failures), refresh=False)
+        self.tick(len(self.failures))
 
     # ---------------------------------------------------------------- finish
 
@@ -292,7 +238,7 @@ class _Run:
         if any(r["status"] == "scored" for r in records):
             built = table.build(records, self.config)
             files.update(table.write(built, self.out_dir))
-            files.update(chart.draw(built, self.out_dir, self._above_bar))
+            files.update(chart.draw(built, self.out_dir, self.above_bar))
         return self._result(files, built)
 
     def _result(self, files: dict, built=None) -> AssessResult:
@@ -300,28 +246,3 @@ class _Run:
         return AssessResult(self.scored, self.skipped, len(self.failures), tuple(self.failures),
                             time.perf_counter() - self.started, engine, self.workers, files, tuple(self.notices),
                             built)
-
-    # ---------------------------------------------------------------- progress
-
-    def _open_bar(self, total: int) -> None:
-        if self.show_bar and total:
-            import sys
-
-            from tqdm import tqdm
-
-            self.bar = tqdm(total=total, unit="row", file=sys.stderr, dynamic_ncols=True, mininterval=0.5,
-                            desc="boildown assess")
-
-    def _close_bar(self) -> None:
-        if self.bar is not None:
-            self.bar.close()
-            self.bar = None
-
-    def _above_bar(self, message: str) -> None:
-        if self.bar is None:
-            self.say(message)
-            return
-        from tqdm import tqdm
-
-        with tqdm.external_write_mode():
-            self.say(message)

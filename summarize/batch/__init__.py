@@ -35,8 +35,8 @@ that was summarized, and a Dask worker needs no shared file system.
 Modules: ``config`` (BatchConfig, the settings key), ``discovery`` (finding the documents,
 naming their summaries, reading their bytes), ``lock``, ``manifest`` (Record, Manifest),
 ``worker`` (process_task and the jobs), ``engines`` (the Engine contract in ``engines.base``,
-``local``, ``dask``), ``stop`` (Ctrl-C and SIGTERM), ``run`` (run_batch, BatchResult, the
-tally), ``errors``.
+``local``, ``dask``), ``stop`` (Ctrl-C and SIGTERM), ``loop`` (dispatch, retries and the
+progress bar, shared with assess runs), ``run`` (run_batch, BatchResult, the tally), ``errors``.
 """
 
 from __future__ import annotations

@@ -67,3 +67,14 @@ def settings_key(settings: dict) -> str:
     """A short, stable digest of the settings (the manifest's resume key, with the hash)."""
     canonical = json.dumps(settings, sort_keys=True, separators=(",", ":"))
     return hashlib.sha256(canonical.encode()).hexdigest()[:16]
+
+
+def config_from(config_class, config, options: dict):
+    """``config``, or a ``config_class`` built from keyword ``options``; both at once is a
+    TypeError. ``run_batch`` and ``run_assess`` take their settings so."""
+    if config is None:
+        return config_class(**options)
+    if options:
+        name = config_class.__name__
+        raise TypeError(f"give {'an' if name[0] in 'AEIOU' else 'a'} {name} or keyword options, not both")
+    return config

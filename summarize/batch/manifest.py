@@ -4,7 +4,8 @@ document and run) and ``manifest.csv`` (the latest record per path, rebuilt at t
 A record is a ``Record``; its line is ``Record.to_json()``, keys in the order of the fields (the
 format manifests already on disk use, so they still resume). Only the run's own process
 appends: one complete line per record, one ``write``, fsynced. A torn last line (a run killed
-mid-write) is cut away when the next run opens the manifest.
+mid-write) is cut away when the next run opens the manifest. That repair and the reading is
+``open_log``, which the assess results log (``summarize.assess.log``) uses too.
 """
 
 from __future__ import annotations
@@ -14,7 +15,7 @@ import csv
 import io
 import json
 import os
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, fields
 from pathlib import Path
 
@@ -100,32 +101,8 @@ class Manifest:
 
     def open(self) -> list[str]:
         """Cut a torn last line, load the records, open for appending; return notices."""
-        notices = []
-        if self.path.exists():
-            data = self.path.read_bytes()
-            if data and not data.endswith(b"\n"):
-                keep = data.rfind(b"\n") + 1
-                with open(self.path, "r+b") as fh:
-                    fh.truncate(keep)
-                    fh.flush()
-                    os.fsync(fh.fileno())
-                data = data[:keep]
-                notices.append(f"cut an incomplete last line from {self.path} (a run was stopped while "
-                               "writing it); that document will be done again")
-            unreadable = 0
-            for line in data.decode("utf-8", "replace").splitlines():
-                if not line.strip():
-                    continue
-                try:
-                    record = Record.from_json(line)
-                except ValueError:
-                    unreadable += 1
-                    continue
-                self._index(record)
-            if unreadable:
-                notices.append(f"ignored {unreadable} unreadable line(s) in {self.path}")
-        self._fd = os.open(self.path, os.O_WRONLY | os.O_APPEND | os.O_CREAT, 0o644)
-        fsync_dir(self.out_dir)
+        self._fd, notices = open_log(self.path, lambda line: self._index(Record.from_json(line)),
+                                     redo="that document will be done again")
         return notices
 
     def close(self) -> None:
@@ -189,6 +166,41 @@ class Manifest:
             writer.writerow(["" if value is None else value for value in _csv_row(latest[path])])
         write_atomic(self.csv_path, buffer.getvalue())
         return self.csv_path
+
+
+def open_log(path: Path, take: Callable[[str], object], *, redo: str,
+             unreadable: tuple[type[Exception], ...] = (ValueError,)) -> tuple[int, list[str]]:
+    """Repair and read the JSON-lines log at ``path``, then open it for appending.
+
+    A torn last line (a run killed mid-write) is cut away and the cut fsynced, with a notice
+    ending in ``redo`` (what the next run will do again). ``take`` gets every complete line that
+    is not blank; a line it refuses with one of ``unreadable`` is counted in a notice. The file is
+    opened append-only (created when missing) and its folder fsynced. Returns the descriptor and
+    the notices. Used by the batch manifest and by the assess results log."""
+    notices = []
+    if path.exists():
+        data = path.read_bytes()
+        if data and not data.endswith(b"\n"):
+            keep = data.rfind(b"\n") + 1
+            with open(path, "r+b") as fh:
+                fh.truncate(keep)
+                fh.flush()
+                os.fsync(fh.fileno())
+            data = data[:keep]
+            notices.append(f"cut an incomplete last line from {path} (a run was stopped while writing it); {redo}")
+        refused = 0
+        for line in data.decode("utf-8", "replace").splitlines():
+            if not line.strip():
+                continue
+            try:
+                take(line)
+            except unreadable:
+                refused += 1
+        if refused:
+            notices.append(f"ignored {refused} unreadable line(s) in {path}")
+    fd = os.open(path, os.O_WRONLY | os.O_APPEND | os.O_CREAT, 0o644)
+    fsync_dir(path.parent)
+    return fd, notices
 
 
 def _csv_row(record: Record) -> list:

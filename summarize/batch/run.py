@@ -1,5 +1,6 @@
-"""One batch run: ``run_batch`` and its loop (plan, dispatch to an engine, record each outcome
-once), the tally it returns (``BatchResult``) and the tally's text.
+"""One batch run: ``run_batch`` and its bookkeeping (plan, dispatch to an engine on the shared
+``loop.Loop``, record each outcome once), the tally it returns (``BatchResult``) and the tally's
+text.
 
 Crash safety, by construction: only this (parent) process writes the output folder; a summary
 file is written atomically (``summarize.files.write_atomic``) before its manifest line; the
@@ -14,31 +15,30 @@ import contextlib
 import hashlib
 import os
 import time
-from collections import deque
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
 from summarize import reading
-from summarize.batch.config import BatchConfig, settings_key
+from summarize.batch.config import BatchConfig, config_from, settings_key
 from summarize.batch.discovery import Found, discover, read_bytes
-from summarize.batch.engines import WorkerLost, engine_class
+from summarize.batch.engines import engine_class
 from summarize.batch.errors import BatchError
 from summarize.batch.lock import OutputLock
+from summarize.batch.loop import Loop, RunInterrupted, Tally
 from summarize.batch.manifest import Manifest, Record
-from summarize.batch.stop import Stopped, StopSignals
 from summarize.batch.worker import Outcome, SummarizeJob, Task
 from summarize.files import TMP_SUFFIX, write_atomic
 
-_RETRIES_AFTER_WORKER_DEATH = 1
 _TALLY_KEYS = ("done", "skipped", "failed", "total", "computed", "seconds", "per_minute", "engine", "workers",
                "manifest", "csv", "failures", "notices")
 
 
 @dataclass(frozen=True)
-class BatchResult:
+class BatchResult(Tally):
     """The tally of one run. ``done`` counts documents summarized (or reused from an identical
-    copy) in this run, ``skipped`` those already done by an earlier run."""
+    copy) in this run, ``skipped`` those already done by an earlier run; ``per_minute``, the
+    documents summarized per minute of this run (None when none were computed)."""
 
     done: int
     skipped: int
@@ -52,39 +52,22 @@ class BatchResult:
     computed: int = 0
     notices: tuple[str, ...] = ()
 
-    @property
-    def total(self) -> int:
-        return self.done + self.skipped + self.failed
-
-    @property
-    def per_minute(self) -> float | None:
-        """Documents summarized per minute of this run (None when none were computed)."""
-        return 60.0 * self.computed / self.seconds if self.computed and self.seconds > 0 else None
-
     def to_dict(self) -> dict:
         """The tally as JSON values (what ``boildown batch --json`` prints)."""
-        rate = self.per_minute
         shown = {"total": self.total, "seconds": round(self.seconds, 3),
-                 "per_minute": None if rate is None else round(rate, 2), "manifest": str(self.manifest),
+                 "per_minute": self.rounded_rate(), "manifest": str(self.manifest),
                  "csv": str(self.csv), "failures": [{"path": p, "error": e} for p, e in self.failures],
                  "notices": list(self.notices)}
         return {key: shown[key] if key in shown else getattr(self, key) for key in _TALLY_KEYS}
 
 
-class BatchInterrupted(KeyboardInterrupt):
-    """The run was stopped (Ctrl-C or SIGTERM); ``result`` holds the tally so far."""
-
-    def __init__(self, result: BatchResult):
-        super().__init__("interrupted")
-        self.result = result
+class BatchInterrupted(RunInterrupted):
+    """The run was stopped (Ctrl-C or SIGTERM); ``result`` holds the tally so far (a ``BatchResult``)."""
 
 
 def tally_text(result: BatchResult) -> str:
     """The final tally for people: counts, speed, each failure's reason, where the files are."""
-    speed = f"; {result.per_minute:.1f} documents per minute" if result.per_minute else ""
-    lines = [f"done {result.done}, skipped {result.skipped}, failed {result.failed} "
-             f"({result.total} document(s)) in {result.seconds:.1f} s{speed}"]
-    lines += [f"failed: {error}" for _path, error in result.failures]
+    lines = result.counts_text()
     lines.append(f"manifest: {result.manifest} (latest per document: {result.csv})")
     return "\n".join(lines)
 
@@ -101,10 +84,7 @@ def run_batch(input_dir, out_dir, config: BatchConfig | None = None, *, job=None
     missing) and BatchInterrupted on Ctrl-C or SIGTERM, after recording everything finished
     so far.
     """
-    if config is None:
-        config = BatchConfig(**options)
-    elif options:
-        raise TypeError("give a BatchConfig or keyword options, not both")
+    config = config_from(BatchConfig, config, options)
     started = time.perf_counter()
     job = job or SummarizeJob()
     say = progress or (lambda _m: None)
@@ -179,47 +159,34 @@ class _Pending:
     followers: list = field(default_factory=list)
 
 
-class _Run:
+class _Run(Loop):
     """One run's bookkeeping: decide what to do, dispatch, record each outcome once."""
 
     def __init__(self, input_dir, out_dir, config, job, manifest, say, bar, notices, started):
+        super().__init__(say, bar)
         self.input_dir, self.out_dir, self.config, self.job = input_dir, out_dir, config, job
-        self.manifest, self.say, self.show_bar, self.notices = manifest, say, bar, notices
+        self.manifest, self.notices = manifest, notices
         self.settings = config.settings(job)
         self.key = settings_key(self.settings)
         self.signature = _run_signature(job, self.settings)
         self.run_id = time.strftime("%Y%m%dT%H%M%S") + f"-{os.getpid()}"
         self.done = self.skipped = self.computed = 0
         self.failures: list[tuple[str, str]] = []
-        self.engine = None
-        self.stop = StopSignals()
-        self._workers = 0
-        self.bar = None
         self.started = started
 
     # ---------------------------------------------------------------- plan
 
     def execute(self) -> BatchResult:
-        with self.stop:
-            try:
-                return self._execute()
-            except OSError:
-                if self.engine is not None:  # writing failed: the documents in flight cannot be kept
-                    self.engine.close(cancel=True)
-                    self.engine = None
-                raise
-            except (KeyboardInterrupt, Stopped):
-                if self.engine is not None:
-                    self.engine.close(cancel=True)
-                    self.engine = None
-                self._close_bar()
-                raise BatchInterrupted(self._result()) from None
-            finally:
-                if self.engine is not None:
-                    self.engine.close()
-                self._close_bar()
+        return self.guarded(self._execute, lambda: BatchInterrupted(self._result()))
 
     def _execute(self) -> BatchResult:
+        try:
+            return self._plan_and_dispatch()
+        except OSError:
+            self.cancel()  # writing failed: the documents in flight cannot be kept
+            raise
+
+    def _plan_and_dispatch(self) -> BatchResult:
         found = discover(self.input_dir, self.out_dir, self.config.include, self.config.exclude)
         tasks: list[_Pending] = []
         leaders: dict[str, _Pending] = {}
@@ -254,7 +221,7 @@ class _Run:
             tasks.append(task)
         pending = len(to_write) + sum(1 + len(t.followers) for t in tasks)
         self.say(f"{len(found)} document(s) under '{self.input_dir}': {pending} to do, {self.skipped} already done")
-        self._open_bar(pending)
+        self.open_bar(pending)
         for item, sha, size, what in to_write:
             self.stop.check()
             if isinstance(what, Record):
@@ -262,59 +229,19 @@ class _Run:
             else:
                 self._write(self._failure(item, sha, size, what, {}), item)
         if tasks:
-            self._dispatch(tasks)
+            self.dispatch(self.job, self.config, tasks, payload=self._payload, record=self._record,
+                          lost=lambda task, why: f"'{task.found.rel}' was not summarized: {why}")
         return self._result()
 
     def _result(self) -> BatchResult:
         engine = self.engine.name if self.engine is not None else self.config.engine
         return BatchResult(self.done, self.skipped, len(self.failures), tuple(self.failures),
                            self.manifest.path, self.manifest.csv_path, time.perf_counter() - self.started,
-                           engine, self._workers, self.computed, tuple(self.notices))
+                           engine, self.workers, self.computed, tuple(self.notices))
 
     # ---------------------------------------------------------------- dispatch
 
-    def _dispatch(self, tasks: list[_Pending]) -> None:
-        self.engine = engine_class(self.config.engine).start(self.job, self.config, len(tasks), self._say_above_bar)
-        self._workers = self.engine.workers
-        queue = deque(tasks)
-        inflight: dict = {}
-        window = max(2, 2 * self.engine.capacity)
-        while queue or inflight:
-            self.stop.check()
-            while queue and len(inflight) < window:
-                # after a worker died, each document that was in flight runs alone once, so a
-                # second death names the document that causes it, not its neighbours
-                if inflight and (queue[0].attempts or any(t.attempts for t in inflight.values())):
-                    break
-                task = queue.popleft()
-                payload = self._payload(task, queue)
-                if payload is None:
-                    continue
-                task.submitted = time.perf_counter()
-                inflight[self.engine.submit(payload)] = task
-            if not inflight:
-                continue
-            broken = False
-            for handle in self.engine.wait(list(inflight), timeout=0.5):
-                task = inflight.pop(handle)
-                try:
-                    outcome = self.engine.outcome(handle)
-                except WorkerLost as lost:
-                    task.attempts += 1
-                    if lost.final or task.attempts > _RETRIES_AFTER_WORKER_DEATH:
-                        self._record(task, Outcome(error=f"'{task.found.rel}' was not summarized: {lost}"))
-                    else:
-                        queue.appendleft(task)
-                    broken = broken or not lost.final
-                    continue
-                self._record(task, outcome)
-            if broken:
-                queue.extendleft(inflight.values())
-                inflight.clear()
-                self._say_above_bar("a worker process died; restarting the pool and retrying its documents")
-                self.engine.restart()
-
-    def _payload(self, task: _Pending, queue: deque) -> Task | None:
+    def _payload(self, task: _Pending, queue) -> Task | None:
         """Read the bytes again at submission; a file changed since planning gets its new hash
         (and the copies that shared its old content go back in the queue on their own)."""
         item = task.found
@@ -330,6 +257,7 @@ class _Run:
             queue.extend(_Pending(f, task.sha256, task.size) for f in task.followers)
             task.followers = []
         task.sha256, task.size = sha, len(data)
+        task.submitted = time.perf_counter()
         return Task(item.rel, data, self.settings, self.config.any_language)
 
     # ---------------------------------------------------------------- records
@@ -391,37 +319,10 @@ class _Run:
         else:
             self.manifest.append(record, supersede=self.config.force)
             self.failures.append((item.rel, record.error))
-        if self.bar is not None:
-            self.bar.update(1)
-            self.bar.set_postfix(failed=len(self.failures), refresh=False)
+        self.tick(len(self.failures))
 
     def _restore(self, item: Found, prior: Record) -> None:
         """A skipped document whose summary file went missing gets it back from its record."""
         target = self.out_dir / (prior.summary_file or item.summary_rel)
         if not target.exists() and prior.summary is not None:
             write_atomic(target, prior.summary + "\n")
-
-    # ---------------------------------------------------------------- progress
-
-    def _open_bar(self, total: int) -> None:
-        if self.show_bar and total:
-            import sys
-
-            from tqdm import tqdm
-
-            self.bar = tqdm(total=total, unit="doc", file=sys.stderr, dynamic_ncols=True, mininterval=0.5,
-                            desc="boildown batch")
-
-    def _close_bar(self) -> None:
-        if self.bar is not None:
-            self.bar.close()
-            self.bar = None
-
-    def _say_above_bar(self, message: str) -> None:
-        if self.bar is None:
-            self.say(message)
-            return
-        from tqdm import tqdm
-
-        with tqdm.external_write_mode():
-            self.say(message)

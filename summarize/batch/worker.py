@@ -169,19 +169,21 @@ class LeadJob:
         return JobResult(" ".join(kept), len(kept), budget, len(tokens))
 
 
-def job_from_spec(spec: str):
-    """``summarize`` or ``lead[:SECONDS]`` (the hidden ``--job`` option)."""
-    name, _, arg = (spec or "summarize").partition(":")
-    if name == "summarize" and not arg:
-        return SummarizeJob()
-    if name == "lead":
+def job_from_spec(spec: str, *, real=SummarizeJob, stand_in=LeadJob):
+    """``summarize`` or ``lead[:SECONDS]`` (the hidden ``--job`` option): the ``real`` job, or the
+    model-free ``stand_in`` built with its delay; both are named by their ``name``. The assess
+    command passes its own pair."""
+    name, _, arg = (spec or real.name).partition(":")
+    if name == real.name and not arg:
+        return real()
+    if name == stand_in.name:
         try:
             delay = float(arg) if arg else 0.0
         except ValueError:
             delay = -1.0
         if delay >= 0:
-            return LeadJob(delay)
-    raise BatchError(f"unknown job {spec!r}; use 'summarize' or 'lead[:SECONDS]'")
+            return stand_in(delay)
+    raise BatchError(f"unknown job {spec!r}; use '{real.name}' or '{stand_in.name}[:SECONDS]'")
 
 
 # --------------------------------------------------------------------------------------------
