@@ -59,7 +59,6 @@ def main(argv=None):
 
     from scoring.coverage import CoverageConfig, CoverageScorer
 
-    fields = {f.name: f.type for f in dataclasses.fields(CoverageConfig)}
     overrides = {}
     for item in args.set:
         key, _, value = item.partition("=")

@@ -13,6 +13,7 @@ case makers, smaller, in the suite.
 from __future__ import annotations
 
 import argparse
+import os
 import io
 import json
 import random
@@ -236,7 +237,8 @@ def main(argv=None) -> dict:
     cases = adversarial(args.big_mb) + mutated(seed_files(), args.cases, rng)
     started = time.perf_counter()
     result = run(cases)
-    result.update(seed=args.seed, seconds=round(time.perf_counter() - started, 1),
+    result.update(when=time.strftime("%Y-%m-%d %H:%M:%S"), load_average=list(os.getloadavg()), seed=args.seed,
+                  seconds=round(time.perf_counter() - started, 1),
                   limits={"read_seconds": worker.READ_SECONDS, "read_memory_gib": worker.READ_MEMORY / 1024**3})
     args.out.parent.mkdir(parents=True, exist_ok=True)
     args.out.write_text(json.dumps(result, indent=1) + "\n", encoding="utf-8")

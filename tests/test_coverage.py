@@ -3,8 +3,6 @@ external data (SQuALITY dev human summaries)."""
 
 from __future__ import annotations
 
-import json
-
 import pytest
 
 from scoring.coverage import RECOVERED_GAIN, RECOVERED_SHARE, CoverageConfig, CoverageScorer, KeywordEvidence, _dense_choice, _merge_windows
