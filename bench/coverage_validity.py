@@ -15,6 +15,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
+import math
 import re
 import sys
 import time
@@ -46,6 +47,26 @@ def correlations(docs, values: dict[tuple, float]) -> tuple[float, float]:
     rows = [(doc_id, r["system"], r["scores"]["litepyramid_recall"], values[(doc_id, k)])
             for doc_id, found in docs.items() for k, r in enumerate(found)]
     return stats.summary_level_tau(rows), stats.system_level_tau(rows)
+
+
+def evidence_variants(res) -> dict[str, float]:
+    """Other ways to total the same key-word evidence (no further model pass): every key word's
+    gain (the earlier credit), each contained key word's share of its own surprisal removed (so a
+    rare name does not outweigh a common word), and the share of key words contained (lexical).
+    The per-key-word log-probabilities are read from the mean probabilities of its blanks (one
+    blank per key word in the default mode)."""
+    ev = res.keywords
+    if not ev:
+        return {}
+    n = len(ev)
+    gain = [math.log(max(k.p_with, 1e-12)) - math.log(max(k.p_without, 1e-12)) for k in ev]
+    own = [min(1.0, max(0.0, g / -math.log(max(k.p_without, 1e-12)))) if k.p_without < 1 else 0.0
+           for g, k in zip(gain, ev)]
+    return {
+        "variant: every key word's gain (credit all)": sum(gain) / n,
+        "variant: per-key-word share, contained": sum(o for o, k in zip(own, ev) if k.in_summary) / n,
+        "variant: share of key words contained": sum(bool(k.in_summary) for k in ev) / n,
+    }
 
 
 def main(argv=None):
@@ -82,6 +103,8 @@ def main(argv=None):
             metrics["coverage logprob gain"][(doc_id, k)] = res.logprob_gain
             metrics["coverage accuracy gain"][(doc_id, k)] = res.accuracy_gain
             metrics["coverage prob gain"][(doc_id, k)] = res.prob_gain
+            for name, value in evidence_variants(res).items():
+                metrics[name][(doc_id, k)] = value
             metrics["ROUGE-1 recall (rouge-score, same run)"][(doc_id, k)] = rouge.score(source, summaries[k])["rouge1"].recall
             metrics["ROUGE-1 recall (REALSumm release)"][(doc_id, k)] = row["scores"]["rouge_1_recall"]
         print(f"\r{n + 1}/{len(docs)} documents, {sorted(timings)[len(timings) // 2]:.3f} s per summary (median)", end="", file=sys.stderr)

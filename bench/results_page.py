@@ -108,7 +108,8 @@ def _fluency(d: dict) -> Cells:
         return (f"LongSciVerify, {d['summaries']} summaries (earlier fluency value)", f"{tau:.2f}",
                 f"minus log perplexity {c['-log perplexity']['kendall_all']:.2f}"
                 + ("; **negative: it did not agree with these reviewers**" if tau < 0 else ""))
-    ours, plain = c["default (tidy)"], c["-log perplexity (as-written)"]
+    ours = c["default (tidy)"]
+    plain = c.get("-log perplexity (as-written)") or c["-log perplexity (tidy)"]
     return (f"SummEval dev {d['summeval_summaries']} summaries (summary / system level); "
             f"LongSciVerify {d['lsv_summaries']}",
             f"{ours['summeval_summary']:.3f} / {ours['summeval_system']:.3f}; {ours['lsv_all']:.3f}",

@@ -38,7 +38,10 @@ from scoring.base import BaseScorer, Column, Result, Signature, check_choice, ch
 from scoring.keywords import KEY_RULE, KeywordConfig, KeywordSet, choose_keywords, contains, summary_words
 from scoring.lm import ModelSettings
 
-HEADLINES = ("logprob", "accuracy", "prob")
+# "keyshare": the mean over key words of the part of each word's own surprisal that the summary
+# removes (0 to 1, contained key words only under credit="contained"), so a rare name whose
+# many-token surprisal is large does not outweigh a common word the summary also carries.
+HEADLINES = ("logprob", "accuracy", "prob", "keyshare")
 MODES = ("middle", "first", "every", "dense")
 # Which key words' log-probability gains count towards the value: "contained" = only those the
 # summary contains (keywords.contains), "all" = every key word (the rule before; kept for the
@@ -441,10 +444,15 @@ def _summarise(plan: _Plan, base: _Pass, run: _Pass, config: CoverageConfig, sig
     acc_with = sum(run.hits) / n
     acc_without = sum(base.hits) / n
     evidence = []
+    own_shares = []
     for k, kw in enumerate(plan.keyword_set.keywords):
         mine = [i for i, owner in enumerate(plan.owners) if owner == k]
         if not mine:
             continue
+        own_surprisal = -sum(base.logprobs[i] for i in mine)
+        own_gain = sum(run.logprobs[i] - base.logprobs[i] for i in mine)
+        counted = config.credit == "all" or bool(found[k])
+        own_shares.append(min(1.0, max(0.0, own_gain / own_surprisal)) if counted and own_surprisal > 0 else 0.0)
         evidence.append(
             KeywordEvidence(
                 word=kw.lemma,
@@ -456,7 +464,11 @@ def _summarise(plan: _Plan, base: _Pass, run: _Pass, config: CoverageConfig, sig
                 in_summary=found[k],
             )
         )
-    headline = {"logprob": lp_gain, "accuracy": acc_with - acc_without, "prob": p_gain}[config.headline]
+    keyshare = sum(own_shares) / len(own_shares) if own_shares else 0.0
+    if config.headline == "keyshare":
+        share = keyshare  # already a share of each word's own uncertainty
+    headline = {"logprob": lp_gain, "accuracy": acc_with - acc_without, "prob": p_gain,
+                "keyshare": keyshare}[config.headline]
     return CoverageScore(
         value=round(headline, 6),
         share=round(share, 6),
