@@ -55,6 +55,22 @@ def coverage_validity(d: dict) -> list[str]:
     ]
 
 
+def coverage_totals(d: dict) -> list[str]:
+    """The same key-word evidence totalled several ways, with the key-word rules and credit in use."""
+    t, c = d["tau"], d["config"]
+    out = [f"The rules in use (key words without units, bare numbers or near-ubiquitous words, names capped; "
+           f"credit `{c['credit']}`, headline `{c['headline']}`) on the first {d['documents']} REALSumm documents, "
+           "and the same evidence totalled in other ways without another model pass: every key word's gain "
+           "(the earlier credit), each contained key word's share of its own surprisal (`keyshare`), and the "
+           f"plain share of key words the summary contains ({when(d)}, "
+           f"`{PYTHON} bench/coverage_validity.py --docs {d['documents']} --name coverage_validity_{d['documents']}`). "
+           "The table above is the earlier 100-document run, before these rules.", "",
+           "| measure | summary-level tau | system-level tau |", "|---|---|---|"]
+    for name, r in t.items():
+        out.append(f"| {name} | {r['summary_level']:.3f} | {r['system_level']:.3f} |")
+    return out + [""]
+
+
 def coverage_settings(d: dict) -> list[str]:
     extra, rows = _settings_runs(d)
 
@@ -483,6 +499,8 @@ def compression(d: dict) -> list[str]:
 SECTIONS = (
     Section("Coverage against human judgements (REALSumm)", "coverage_validity", "bench/coverage_validity.py",
             coverage_validity),
+    Section("Coverage totals side by side (REALSumm, first 40 documents)", "coverage_validity_40",
+            "bench/coverage_validity.py --docs 40 --name coverage_validity_40", coverage_totals),
     Section("Coverage speed", "coverage_speed", "bench/coverage_speed.py", coverage_speed),
     Section("Coverage settings on long sources", "coverage_settings",
             "bench/coverage_settings.py --set defaults --set window=24", coverage_settings),
