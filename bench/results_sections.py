@@ -447,7 +447,8 @@ def _ablation_sentence(t: dict) -> str:
 
 def ordering_quality(d: dict) -> list[str]:
     """Quality and the own-candidate choice from the run after the ranking rework (a slice)."""
-    out = []
+    out = ["A slice run after the ranking rework, before the key-word rules now in use were merged; the run "
+           "was cut after the documents shown:", ""]
     for key, title in QUALITY_SETS.items():
         block = d["results"].get(key)
         if not block:
