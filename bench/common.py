@@ -75,8 +75,8 @@ def timing_args(doc: str, argv=None, **options: int) -> argparse.Namespace:
 def forget_sources() -> None:
     """Empty the per-process caches of key words and verb checks, so nothing of a source is
     carried from one repeat to the next (the models stay loaded)."""
-    from scoring.fluency import _has_verb
+    from scoring.fluency_flags import has_verb
     from scoring.keywords import _choose_cached
 
     _choose_cached.cache_clear()
-    _has_verb.cache_clear()
+    has_verb.cache_clear()

@@ -65,3 +65,15 @@ def test_causal_attention_counts_the_masked_products():
     with counter:
         model(hidden_states=torch.zeros(3, 5, 8))
     assert counter.attention == 2 * 2 * 3 * 2 * 4 * (5 * 6 // 2)
+
+
+def test_the_timing_benches_forget_a_source_between_repeats():
+    # bench/common.forget_sources empties the key-word and verb caches; it broke silently once
+    # when the verb check moved module, and a timing run then failed only after minutes
+    from bench.common import forget_sources
+    from scoring.fluency_flags import has_verb
+
+    has_verb("The plant treats water.")
+    assert has_verb.cache_info().currsize >= 1
+    forget_sources()
+    assert has_verb.cache_info().currsize == 0
