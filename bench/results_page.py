@@ -96,7 +96,7 @@ Cells = tuple[str, str, str]  # data, boildown, compared with
 
 def _coverage(d: dict) -> Cells:
     t = d["tau"]
-    return (f"REALSumm, {d['documents']} documents",
+    return (f"REALSumm, first {d['documents']} documents" if d["documents"] < 100 else f"REALSumm, {d['documents']} documents",
             f"{t[COVERAGE]['summary_level']:.3f} / {t[COVERAGE]['system_level']:.3f}",
             f"ROUGE-1 recall {t[ROUGE1_SAME_RUN]['summary_level']:.3f} / {t[ROUGE1_SAME_RUN]['system_level']:.3f}")
 
@@ -149,8 +149,8 @@ def _batch_speed(d: dict) -> Cells | None:
 
 
 ROWS = (  # measure, results file, the command that writes it, the row's other cells from its JSON
-    ("coverage: Kendall tau with human LitePyramid recall, summary / system level", "coverage_validity",
-     "bench/coverage_validity.py", _coverage),
+    ("coverage: Kendall tau with human LitePyramid recall, summary / system level", "coverage_validity_40",
+     "bench/coverage_validity.py --docs 40 --name coverage_validity_40", _coverage),
     ("fluency: Kendall tau with human fluency ratings", "fluency_validity", "bench/fluency_validity.py", _fluency),
     ("combined score: Kendall tau with the candidates' order by ROUGE-2 against the human summaries",
      "quality_ranking", "bench/quality.py --parts ranking --name quality_ranking", _ranking),

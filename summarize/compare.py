@@ -279,15 +279,16 @@ def compare(
     keyword_set = choose_keywords(document.text, KeywordConfig(count=evaluator.config.coverage.keywords))
     refs = [r for r in (references or []) if r and r.strip()]
     combine = evaluator.config.combine
+    ordered = any(c.ordering is not None for c in ranked)  # 3 or more candidates
     settings = {
         "budget": budget,
         "keywords": evaluator.config.coverage.keywords,
         "keywords_chosen": len(keyword_set.keywords),
         "references": len(refs),
         "combined": combine.describe(),
-        "ordering": evaluator.config.order.describe() if any(c.ordering is not None for c in ranked) else None,
+        "ordering": evaluator.config.order.describe() if ordered else None,
     }
-    extra = (combine.signature(), evaluator.config.order.signature())
+    extra = (combine.signature(),) + ((evaluator.config.order.signature(),) if ordered else ())
     return assemble(
         document, ranked, keyword_set, budget=budget, provenance=provenance, settings=settings,
         extra_signatures=extra, name=name, sentences=sentences,

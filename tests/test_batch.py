@@ -680,7 +680,7 @@ def test_real_summarizer_on_two_tiny_documents(tmp_path):
     for record in records(out):
         assert record["settings"] == {"job": "summarize", "words": 30, "ratio": None, "candidates": 1,
                                       "code": batch.SummarizeJob().code()}
-        assert "boildown 0.1.0" in record["settings"]["code"] and "agreement=0.5" in record["settings"]["code"]
+        assert "boildown 0.1.0" in record["settings"]["code"] and "pool=independent" in record["settings"]["code"]
         assert 0 < record["words"] <= 30 and record["source_words"] > 30
         assert set(record["scores"]) == {"combined", "coverage", "fluency", "agreement", "over_budget"}
         assert record["scores"]["agreement"] is None  # one candidate: nothing to agree with
@@ -688,5 +688,5 @@ def test_real_summarizer_on_two_tiny_documents(tmp_path):
         assert record["signatures"]["summary"] == "summarize(words=30, candidates=1) on boildown 0.1.0"
         assert record["signatures"]["coverage"].startswith("coverage(model=")
         assert record["signatures"]["fluency"].startswith("fluency(model=")
-        assert record["signatures"]["combined"].startswith("combined(agreement=0.5, coverage=0.375, fluency=0.125")
+        assert record["signatures"]["combined"].startswith("combined(coverage=0.75, fluency=0.25, pool=independent)")
         assert (out / record["summary_file"]).read_text(encoding="utf-8") == record["summary"] + "\n"

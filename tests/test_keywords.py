@@ -103,22 +103,38 @@ def test_name_share_is_validated():
 
 
 # Pairs written for this project on the demo documents (bench/data/keyword_pairs.jsonl, invented
-# text): a findings-carrying abstract against one that only names places, people and plant. The
-# issue's target is a margin of at least 10 points of coverage on every pair; the bench
-# (bench/keyword_pairs.py) runs all of them, this test the pairs on the shorter documents.
-@pytest.mark.models
-@pytest.mark.parametrize("name", ["drought-findings", "drought-lessons", "incident-findings"])
-def test_findings_abstract_out_covers_a_names_only_abstract_by_ten_points(name):
+# text): a findings-carrying abstract against one that only names places, people and plant.
+PAIRS = ["drought-findings", "drought-lessons", "incident-findings"]
+
+
+def _pair_scores(name):
     from bench.keyword_pairs import load_pairs
     from scoring.coverage import CoverageScorer
     from summarize.reading import read
 
     pair = next(p for p in load_pairs() if p["name"] == name)
     source = read(DEMO / pair["document"]).text
-    good, weak = CoverageScorer().score_many([pair["good"], pair["weak"]], source=source)
-    assert 100 * (good.share - weak.share) >= 10.0
-    # the explanation is true: a key word the summary contains is never reported missed
+    return pair, CoverageScorer().score_many([pair["good"], pair["weak"]], source=source)
+
+
+@pytest.mark.models
+@pytest.mark.parametrize("name", PAIRS)
+def test_a_key_word_the_summary_contains_is_never_reported_missed(name):
+    pair, (good, weak) = _pair_scores(name)
     for result, text in ((good, pair["good"]), (weak, pair["weak"])):
+        assert any(k.in_summary for k in result.keywords)
         for k in result.keywords:
             assert not (k.in_summary and k.status == "missed")
+            assert k.status != "recovered" or k.in_summary  # and none is recovered that it lacks
             assert k.in_summary == "" or k.in_summary.lower() in text.lower()
+
+
+# The issue's target is a margin of at least 10 points of coverage on every pair; it is not reached
+# (bench/keyword_pairs.py: 0 of 11; docs/RESULTS.md). Strict: when a change reaches it, this test
+# fails as XPASS and must become a plain test.
+@pytest.mark.models
+@pytest.mark.xfail(strict=True, reason="issue 25 target not reached: rare names dominate the log-probability gain")
+@pytest.mark.parametrize("name", PAIRS)
+def test_findings_abstract_out_covers_a_names_only_abstract_by_ten_points(name):
+    _, (good, weak) = _pair_scores(name)
+    assert 100 * (good.share - weak.share) >= 10.0
