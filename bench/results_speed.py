@@ -192,7 +192,7 @@ def assess(d: dict) -> list[str]:
         out += [f"| {data} | {k} | {v['system_level_from_table']:.3f} | {v['system_level_bench_path']:.3f} | "
                 f"{v['summary_level']:.3f} |" for data, k, v in rows]
         if se["documents"] < 50:
-            out += ["", f"Only {se['documents']} of the 50 articles were run (a loaded machine): these taus are "
+            out += ["", f"Only {se['documents']} of the 50 articles were run (a short run): these taus are "
                     "a check of the code path, not a validity figure."]
     return out + [""]
 
