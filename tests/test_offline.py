@@ -120,14 +120,25 @@ def test_batch_local_engine_offline(offline, tmp_path):
     ["score", str(DEMO / "source.md"), str(DEMO / "good.txt"), str(DEMO / "weak.txt")],
     ["compare", str(DEMO / "source.md"), str(DEMO / "good.txt"), str(DEMO / "weak.txt")],
     ["batch", str(DEMO), "--include", "source.md", "--words", "40", "--workers", "1", "--candidates", "1", "-q"],
-], ids=["summarize", "score", "compare", "batch-summarize"])
+    ["assess", "ROWS", "--workers", "1", "--samples", "50", "-q"],
+], ids=["summarize", "score", "compare", "batch-summarize", "assess"])
 def test_each_command_runs_offline(offline, tmp_path, command):
     env, log = offline
-    if command[0] == "batch":
+    if command[0] == "assess":  # two systems' summaries of the demo source, as JSON lines
+        source = (DEMO / "source.md").read_text(encoding="utf-8")
+        rows = tmp_path / "rows.jsonl"
+        rows.write_text("".join(json.dumps({"id": "demo", "system": name, "source": source,
+                                            "summary": (DEMO / f"{name}.txt").read_text(encoding="utf-8")}) + "\n"
+                                for name in ("good", "weak")), encoding="utf-8")
+        command = [command[0], str(rows), *command[2:]]
+    if command[0] in ("batch", "assess"):
         command = command + ["--out", str(tmp_path / "out")]
     done = boildown(env, *command)
     assert done.returncode == 0, done.stderr[-2000:]
     assert attempts(log) == []
+    if command[0] == "assess":
+        records = [json.loads(line) for line in (tmp_path / "out" / "results.jsonl").read_text().splitlines()]
+        assert sorted((r["system"], r["status"]) for r in records) == [("good", "scored"), ("weak", "scored")]
 
 
 def test_dask_engine_connects_only_to_the_scheduler_given(tmp_path):
