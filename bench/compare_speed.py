@@ -55,16 +55,14 @@ def stages(candidates: list[Path]) -> dict[str, dict[str, float]]:
     """Seconds per stage of compare and of score in this process (models loaded first; a fresh
     evaluator and emptied caches for each, so the source's work is done again)."""
     from scoring.evaluate import Evaluator
-    from scoring.fluency import _has_verb
-    from scoring.keywords import _choose_cached
+    from bench.common import forget_sources
     from scoring.lm import CausalLM
     from summarize import compare as comparing
     from summarize import report, report_html
     from summarize.reading import read_candidates, read_document
 
     def fresh() -> tuple[Evaluator, dict[str, float]]:
-        _choose_cached.cache_clear()
-        _has_verb.cache_clear()
+        forget_sources()  # key words and verb checks
         CausalLM.tokens.cache_clear()
         evaluator, spent = Evaluator(), {}
         for name, scorer in evaluator.scorers.items():
