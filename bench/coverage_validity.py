@@ -62,7 +62,19 @@ def evidence_variants(res) -> dict[str, float]:
     gain = [math.log(max(k.p_with, 1e-12)) - math.log(max(k.p_without, 1e-12)) for k in ev]
     own = [min(1.0, max(0.0, g / -math.log(max(k.p_without, 1e-12)))) if k.p_without < 1 else 0.0
            for g, k in zip(gain, ev)]
-    return {
+    weighted = {}
+    surprisal = [-math.log(max(k.p_without, 1e-12)) for k in ev]
+    for names in (1.0, 0.5, 0.25, 0.0):  # the weight of a name among the key words
+        w = [names if k.is_name else 1.0 for k in ev]
+        for cap in (None, 2.0, 4.0):  # each key word's gain (and surprisal) counted up to this many nats
+            top = (lambda x: x) if cap is None else (lambda x, c=cap: min(x, c))
+            den = sum(wi * top(s) for wi, s in zip(w, surprisal))
+            num = sum(wi * top(g) for wi, g, k in zip(w, gain, ev) if k.in_summary)
+            label = f"variant: names x{names:g}, gain {'uncapped' if cap is None else f'capped at {cap:g} nats'}"
+            weighted[label] = num / den if den > 0 else 0.0
+        weighted[f"variant: names x{names:g}, share of key words contained"] = (
+            sum(wi for wi, k in zip(w, ev) if k.in_summary) / sum(w) if sum(w) else 0.0)
+    return weighted | {
         "variant: every key word's gain (credit all)": sum(gain) / n,
         "variant: per-key-word share, contained": sum(o for o, k in zip(own, ev) if k.in_summary) / n,
         "variant: share of key words contained": sum(bool(k.in_summary) for k in ev) / n,
@@ -80,7 +92,9 @@ def main(argv=None):
 
     from scoring.coverage import CoverageConfig, CoverageScorer
 
-    overrides = {}
+    # every key word's probability with the summary is read (read="all": the same values as the
+    # default "carried", and the "credit all" variant below needs the left-out words too)
+    overrides = {"read": "all"}
     for item in args.set:
         key, _, value = item.partition("=")
         default = getattr(CoverageConfig(), key)

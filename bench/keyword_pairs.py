@@ -46,7 +46,8 @@ def load_pairs(path: Path = PAIRS) -> list[dict]:
 
 def rows_of(kind: str, source: str, summary: str, result) -> list[dict]:
     return [{"kind": kind, "word": k.word, "p0": k.p_without, "p1": k.p_with, "in_summary": k.in_summary,
-             "state": k.status, "probability_state": k.probability_status, "summary": summary}
+             "state": k.status, "probability_state": k.probability_status, "summary": summary,
+             "is_name": k.is_name}
             for k in result.keywords]
 
 
@@ -94,9 +95,11 @@ def main(argv=None):
     if args.merge:
         return merge(args.merge, args.name)
 
-    from scoring.coverage import CoverageScorer
+    from scoring.coverage import CoverageConfig, CoverageScorer
 
-    scorer = CoverageScorer()
+    # read="all": the same values as the default, with every key word's probability with the
+    # summary measured (the probability states compared by bench/keyword_states.py need them)
+    scorer = CoverageScorer(CoverageConfig(read="all"))
     rows: list[dict] = []
     started = time.perf_counter()
     pairs = [] if args.skip_pairs else run_pairs(scorer, load_pairs(), rows)

@@ -7,8 +7,8 @@ The fp32 matmul peak (2048 x 2048, the same threads) is measured at the start an
 of the run; the stages are timed between. A stage's FLOPs are counted from the shapes actually
 run (forward hooks, ``bench/flops.py``): every linear layer, and attention's two products
 under the causal mask; effective rate = FLOPs / wall time. Stages, on a 5,000-word demo source
-and a 150-word summary: coverage's pass for a further candidate (its prefix, then every window
-row read after it), fluency's read of the summary, fluency's reference read of the source
+and a 150-word summary: coverage's pass for a further candidate (its prefix, then the window
+rows of the key words it carries, read after it), fluency's read of the summary, fluency's reference read of the source
 sentences, and the MiniLM encoder over the source's sentences.
 
 Item 1: with a fresh evaluator (coverage and fluency; nothing of the source cached), the first
@@ -58,7 +58,7 @@ def main(argv=None):
 
     import torch
 
-    from scoring.coverage import CoverageScorer
+    from scoring.coverage import CoverageScorer, _carried
     from scoring.evaluate import EvalConfig, Evaluator
     from scoring.fluency import FluencyScorer
     from scoring.models import causal_in_dtype, load_causal, resolve_dtype, set_threads
@@ -98,6 +98,7 @@ def main(argv=None):
     cov.score(summary, source=source)  # plan and baseline cached: what is left is a candidate's pass
     plan = cov._plan(source)
     prefix, _ = cov._prefix_ids(others[-1])
+    reads = [cov._rows_to_read(plan, _carried(plan, others[-1]))]  # the ranges of the key words it carries
     flu = FluencyScorer()
     flu.reference_log_pp(source)
     sentences = [s for s in split_sentences(source) if s.strip()]
@@ -118,11 +119,11 @@ def main(argv=None):
         print(f"{name}: {seconds:.2f} s, {counter.flops / 1e9:.1f} GFLOP ({counter.tokens} tokens) "
               f"-> {stages[name]['gflops']:.1f} GFLOPS")
 
-    stage("coverage pass (a further candidate)", lambda: cov._runs([prefix], plan), causal)
+    stage("coverage pass (a further candidate)", lambda: cov._runs([prefix], plan, reads), causal)
     stage("fluency (a summary)", lambda: flu.model.logprobs([split_sentences(others[-1])]), causal)
     stage("fluency reference (source sentences)", lambda: flu.model.logprobs([[s] for s in _sample(sentences, 24)]), causal)
     stage("encoder (source sentences)", lambda: embed(sentences), encoder)
-    shares = profile_shares(lambda: cov._runs([prefix], plan))
+    shares = profile_shares(lambda: cov._runs([prefix], plan, reads))
     peak_end = median_peak()
     load_end = os.getloadavg()
     yardstick = statistics.median([peak_start, peak_end])

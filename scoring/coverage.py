@@ -23,9 +23,15 @@ words that the summary removes (what the reports show as a percentage). On REALS
 log-probability gain ranked summaries better than the accuracy gain (bench/coverage_validity.py).
 
 Long documents go in windows: each key word needs only its left context (``window`` tokens).
-Overlapping windows merge into ranges; the summary's key/value cache is computed once and
-shared by every range, so a candidate costs its own length plus the ranges, and the filler
-baseline is computed once per document (and filler length) and cached.
+Overlapping windows merge into ranges, each read as a row of its own after the summary; the
+summary's key/value cache is computed once and shared by every range, and the filler baseline
+(every range) is computed once per document (and filler length) and cached. Since only the key
+words a summary carries earn credit (``credit="contained"``), a summary's own pass reads only the
+ranges that hold those key words (``read="carried"``): a candidate costs its own length plus the
+ranges of the key words it carries. Each range is read on its own, so a key word's probability
+does not depend on which other ranges are read, and the value is the same as reading them all
+(``read="all"``, which also measures the probabilities of the key words left out, shown as
+evidence; ``tests/test_coverage.py`` checks the two agree).
 """
 
 from __future__ import annotations
@@ -51,6 +57,11 @@ MODES = ("middle", "first", "every", "dense")
 # (it primes the topic), so a findings-carrying abstract and a names-only one scored alike
 # (bench/keyword_pairs.py); counting only carried words separates them (RESULTS page).
 CREDITS = ("contained", "all")
+# Which ranges a summary's own pass reads: "carried" = only those holding a key word the summary
+# carries (enough for the value under credit="contained"; the others' probabilities with the
+# summary are left unmeasured, None); "all" = every range (the only choice under credit="all",
+# or when windows are packed into shared rows, row_tokens > 0).
+READS = ("carried", "all")
 # "dense" mode: characters taken as one token when windows are compared before tokenizing
 CHARS_PER_TOKEN = 4
 # The summary, a blank line, then the blanked source. Tried on 20 REALSumm documents: labels
@@ -102,14 +113,26 @@ class CoverageConfig(ModelSettings):
     blank: str = "___"
     filler: str = "."
     prefix_bucket: int = 32
-    row_tokens: int = 128
+    # 0: each merged range is a row of its own (read alone, so any subset of ranges can be read);
+    # N > 0: ranges packed in document order into rows of at most N tokens (the rule before
+    # 2026-12-05, when 128; a key word then also read the windows packed before it in its row)
+    row_tokens: int = 0
+    read: str = "carried"
 
     def __post_init__(self):
         super().__post_init__()
         check_choice("mode", self.mode, MODES)
         check_choice("headline", self.headline, HEADLINES)
         check_choice("credit", self.credit, CREDITS)
-        check_positive(self, "keywords", "window", "max_blanks", "per_keyword", "prefix_bucket", "row_tokens")
+        check_choice("read", self.read, READS)
+        check_positive(self, "keywords", "window", "max_blanks", "per_keyword", "prefix_bucket")
+        if self.row_tokens < 0:
+            raise ValueError(f"row_tokens must be 0 (a row per range) or more, got {self.row_tokens}")
+
+    @property
+    def reads_carried_only(self) -> bool:
+        """Whether a summary's pass reads only the ranges of the key words it carries."""
+        return self.read == "carried" and self.credit == "contained" and self.row_tokens == 0
 
 
 @dataclass(frozen=True)
@@ -119,10 +142,11 @@ class KeywordEvidence:
     word: str
     blanks: int
     p_without: float
-    p_with: float
+    p_with: float | None  # None: not measured (read="carried" reads only the carried words' ranges)
     hits_without: int
-    hits_with: int
+    hits_with: int | None
     in_summary: str = ""  # the summary's word that carries it ("" if none): the evidence shown
+    is_name: bool = False  # a name of a person, place or work (keywords.Keyword.name)
 
     @property
     def status(self) -> str:
@@ -138,6 +162,8 @@ class KeywordEvidence:
         used; kept for bench/keyword_states.py's side-by-side)."""
         if self.p_without >= KNOWN_P:
             return "known"
+        if self.p_with is None:
+            raise ValueError(f"{self.word!r} was not read with the summary: use read='all' for probability states")
         surprisal = -math.log(max(self.p_without, 1e-12))
         gain = math.log(max(self.p_with, 1e-12)) + surprisal
         if gain >= RECOVERED_GAIN and gain >= RECOVERED_SHARE * surprisal:
@@ -189,17 +215,19 @@ class _Plan:
     blank_of: tuple[int, ...]  # scored blank each scored token belongs to
     owners: tuple[int, ...]  # key-word index of each scored blank
     ranges: tuple[tuple[int, int], ...]  # merged windows [start, end) over ids
-    rows: tuple[tuple[tuple[int, ...], tuple[tuple[int, int], ...]], ...]  # packed windows: (ids, (column, scored index))
+    rows: tuple[tuple[tuple[int, ...], tuple[tuple[int, int], ...]], ...]  # rows of windows: (ids, (column, scored index))
+    row_owners: tuple[frozenset[int], ...]  # the key words whose blanks each row scores
     keyword_set: KeywordSet
     source: str = ""  # the text the key words' spans point into
 
 
 @dataclass(frozen=True)
 class _Pass:
-    """Per-blank log-probability and hit (argmax == target) for one prefix."""
+    """Per-blank log-probability and hit (argmax == target) for one prefix; None where the
+    blank's row was not read."""
 
-    logprobs: tuple[float, ...]
-    hits: tuple[bool, ...]
+    logprobs: tuple[float | None, ...]
+    hits: tuple[bool | None, ...]
 
 
 class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="source", config=CoverageConfig):
@@ -243,13 +271,24 @@ class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="sourc
             missing = sorted({size for _, size in prefixes if (doc, size) not in self._baselines})
             wanted = [self._prefix_ids("", size)[0] for size in missing]
             wanted += [ids for (ids, _), s in zip(prefixes, group) if s.strip()]
-            passes = iter(self._runs(wanted, plan))
+            carried = [_carried(plan, s) for s in group]
+            every = set(range(len(plan.rows)))
+            reads = [every] * len(missing)
+            reads += [self._rows_to_read(plan, found) for found, s in zip(carried, group) if s.strip()]
+            passes = iter(self._runs(wanted, plan, reads))
             for size in missing:
                 self._baselines[(doc, size)] = next(passes)
-            for s, (_, size) in zip(group, prefixes):
+            for s, found, (_, size) in zip(group, carried, prefixes):
                 base = self._baselines[(doc, size)]
-                results.append(_summarise(plan, base, next(passes) if s.strip() else base, self.config, sig, s))
+                results.append(_summarise(plan, base, next(passes) if s.strip() else base, self.config, sig, found))
         return results
+
+    def _rows_to_read(self, plan: _Plan, found: list[str]) -> set[int]:
+        """The rows a summary's own pass reads: those holding a key word it carries, or all."""
+        if not self.config.reads_carried_only:
+            return set(range(len(plan.rows)))
+        mine = {k for k, word in enumerate(found) if word}
+        return {r for r, owners in enumerate(plan.row_owners) if owners & mine}
 
     def signature(self) -> Signature:
         c = self.config
@@ -266,6 +305,7 @@ class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="sourc
                 "headline": c.headline,
                 "credit": c.credit,
                 "lowercase": c.lowercase,
+                "rows": "alone" if c.row_tokens == 0 else f"packed-{c.row_tokens}",  # each range read alone, or packed
             },
             ("torch", "transformers", "spacy"),
         )
@@ -330,7 +370,9 @@ class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="sourc
         ids.extend(self._tokens(lower(source[cursor:])))
         ranges = _merge_windows(positions, c.window, len(ids))
         rows = _pack(ranges, positions, ids, self._tokens("\n\n"), c.row_tokens)
-        return _Plan(tuple(ids), tuple(positions), tuple(targets), tuple(blank_of), tuple(owners), tuple(ranges), rows, kwset, source)
+        row_owners = tuple(frozenset(owners[blank_of[i]] for _, i in scored) for _, scored in rows)
+        return _Plan(tuple(ids), tuple(positions), tuple(targets), tuple(blank_of), tuple(owners), tuple(ranges), rows,
+                     row_owners, kwset, source)
 
     def _prefix_ids(self, summary: str, length: int | None = None) -> tuple[list[int], int]:
         """The template around the summary, whose tokens are padded on the left with filler to
@@ -344,22 +386,27 @@ class CoverageScorer(BaseScorer, name="coverage", label="Coverage", needs="sourc
         head = self._tokens(before) if before else []
         return head + pad + body[-size:] + self._tokens(after), size
 
-    def _runs(self, prefixes: list[list[int]], plan: _Plan) -> list[_Pass]:
-        """One pass per prefix: the prefixes' key/value caches, then every packed row of windows
-        read after each."""
+    def _runs(self, prefixes: list[list[int]], plan: _Plan, reads: list[set[int]] | None = None) -> list[_Pass]:
+        """One pass per prefix: the prefixes' key/value caches, then the rows of windows in
+        ``reads`` (per prefix; default every row) read after each."""
         asks = [(ids, [(col, plan.targets[i]) for col, i in scored]) for ids, scored in plan.rows]
+        reads = reads if reads is not None else [set(range(len(plan.rows)))] * len(prefixes)
         out = []
-        for ids, head in zip(prefixes, self.lm.prefix_states(prefixes)):
-            logprobs = [0.0] * len(plan.positions)
-            hits = [False] * len(plan.positions)
-            for (_, scored), answers in zip(plan.rows, self.lm.read_after(head, len(ids), asks)):
-                for (_, i), (logprob, hit) in zip(scored, answers):
+        for ids, head, rows in zip(prefixes, self.lm.prefix_states(prefixes), reads):
+            logprobs: list[float | None] = [None] * len(plan.positions)
+            hits: list[bool | None] = [None] * len(plan.positions)
+            chosen = sorted(rows)
+            for r, answers in zip(chosen, self.lm.read_after(head, len(ids), [asks[r] for r in chosen])):
+                for (_, i), (logprob, hit) in zip(plan.rows[r][1], answers):
                     logprobs[i], hits[i] = logprob, hit
-            blank_lp = [0.0] * len(plan.owners)
-            blank_hit = [True] * len(plan.owners)
+            blank_lp: list[float | None] = [0.0] * len(plan.owners)
+            blank_hit: list[bool | None] = [True] * len(plan.owners)
             for i, blank in enumerate(plan.blank_of):
-                blank_lp[blank] += logprobs[i]
-                blank_hit[blank] = blank_hit[blank] and hits[i]
+                if logprobs[i] is None or blank_lp[blank] is None:
+                    blank_lp[blank], blank_hit[blank] = None, None
+                else:
+                    blank_lp[blank] += logprobs[i]
+                    blank_hit[blank] = blank_hit[blank] and hits[i]
             out.append(_Pass(tuple(blank_lp), tuple(blank_hit)))
         return out
 
@@ -432,16 +479,26 @@ def _empty(plan: _Plan, sig: Signature) -> CoverageScore:
     return CoverageScore(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, len(plan.keyword_set.keywords), 0, (), sig)
 
 
-def _summarise(plan: _Plan, base: _Pass, run: _Pass, config: CoverageConfig, sig: Signature, summary: str = "") -> CoverageScore:
+def _carried(plan: _Plan, summary: str) -> list[str]:
+    """For each key word, the summary's word that carries it ("" if none: ``keywords.contains``)."""
+    words = summary_words(summary or "")
+    return [contains(kw, plan.source, words) for kw in plan.keyword_set.keywords]
+
+
+def _summarise(plan: _Plan, base: _Pass, run: _Pass, config: CoverageConfig, sig: Signature,
+               found: list[str]) -> CoverageScore:
+    """Total one summary's pass against the baseline. Only credited blanks (key words the summary
+    carries, under credit="contained") earn a gain, in the headline and in the accuracy and
+    probability gains alike; a blank that earns nothing counts as its baseline."""
     n = len(plan.owners)
-    words = summary_words(summary)
-    found = [contains(kw, plan.source, words) for kw in plan.keyword_set.keywords]
     credited = [config.credit == "all" or bool(found[owner]) for owner in plan.owners]
-    lp_gain = sum(w - b for w, b, c in zip(run.logprobs, base.logprobs, credited) if c) / n
+    run_lp = [w if c else b for w, b, c in zip(run.logprobs, base.logprobs, credited)]
+    run_hits = [w if c else b for w, b, c in zip(run.hits, base.hits, credited)]
+    lp_gain = sum(w - b for w, b in zip(run_lp, base.logprobs)) / n
     surprisal = -sum(base.logprobs) / n
     share = lp_gain / surprisal if surprisal > 0 else 0.0
-    p_gain = sum(math.exp(w) - math.exp(b) for w, b in zip(run.logprobs, base.logprobs)) / n
-    acc_with = sum(run.hits) / n
+    p_gain = sum(math.exp(w) - math.exp(b) for w, b in zip(run_lp, base.logprobs)) / n
+    acc_with = sum(run_hits) / n
     acc_without = sum(base.hits) / n
     evidence = []
     own_shares = []
@@ -450,18 +507,20 @@ def _summarise(plan: _Plan, base: _Pass, run: _Pass, config: CoverageConfig, sig
         if not mine:
             continue
         own_surprisal = -sum(base.logprobs[i] for i in mine)
-        own_gain = sum(run.logprobs[i] - base.logprobs[i] for i in mine)
+        own_gain = sum(run_lp[i] - base.logprobs[i] for i in mine)
         counted = config.credit == "all" or bool(found[k])
         own_shares.append(min(1.0, max(0.0, own_gain / own_surprisal)) if counted and own_surprisal > 0 else 0.0)
+        read = all(run.logprobs[i] is not None for i in mine)
         evidence.append(
             KeywordEvidence(
                 word=kw.lemma,
                 blanks=len(mine),
                 p_without=sum(math.exp(base.logprobs[i]) for i in mine) / len(mine),
-                p_with=sum(math.exp(run.logprobs[i]) for i in mine) / len(mine),
+                p_with=sum(math.exp(run.logprobs[i]) for i in mine) / len(mine) if read else None,
                 hits_without=sum(base.hits[i] for i in mine),
-                hits_with=sum(run.hits[i] for i in mine),
+                hits_with=sum(run.hits[i] for i in mine) if read else None,
                 in_summary=found[k],
+                is_name=kw.name,
             )
         )
     keyshare = sum(own_shares) / len(own_shares) if own_shares else 0.0

@@ -18,6 +18,25 @@ def test_merge_windows():
     assert _merge_windows([], 4, 40) == []
 
 
+def test_ranges_are_rows_of_their_own_by_default_so_any_subset_can_be_read():
+    from scoring.coverage import _pack
+
+    ids = list(range(100))
+    ranges = [(2, 9), (27, 31), (50, 60)]
+    positions = [8, 30, 55, 59]
+    rows = _pack(ranges, positions, ids, [-1], 0)
+    assert [r[0] for r in rows] == [tuple(range(2, 9)), tuple(range(27, 31)), tuple(range(50, 60))]
+    assert [r[1] for r in rows] == [((6, 0),), ((3, 1),), ((5, 2), (9, 3))]
+    packed = _pack(ranges, positions, ids, [-1], 128)  # the rule before: one row, a separator between
+    assert len(packed) == 1 and packed[0][0][7] == -1
+
+
+@pytest.mark.parametrize("changes, carried_only", [({}, True), ({"read": "all"}, False), ({"credit": "all"}, False),
+                                                   ({"row_tokens": 128}, False)])
+def test_only_the_carried_words_ranges_are_read_where_that_gives_the_same_value(changes, carried_only):
+    assert CoverageConfig(**changes).reads_carried_only is carried_only
+
+
 def test_dense_choice_worked_example():
     # Worked by hand, windows of 100 characters before each occurrence. Key word 0 occurs at
     # 100 and 1000 (middle = the first, index 0); key word 1 only at 1050; key word 2 at 3000 and
@@ -28,7 +47,8 @@ def test_dense_choice_worked_example():
     assert _dense_choice([[0, 1000, 2000], [5000, 6000, 7000, 8000]], 10) == {0: 1, 1: 1}
 
 
-@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"credit": "some"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0}])
+@pytest.mark.parametrize("bad", [{"keywords": 0}, {"headline": "f1"}, {"credit": "some"}, {"mode": "all"}, {"dtype": "int8"}, {"window": 0},
+                                 {"read": "some"}, {"row_tokens": -1}])
 def test_config_is_validated(bad):
     with pytest.raises(ValueError):
         CoverageConfig(**bad)
@@ -107,8 +127,9 @@ def test_signature_text():
 
     sig = str(CoverageScorer().signature())
     assert sig == (
-        f"coverage(model=smollm2-135m@{short_checksum('causal')}, dtype={fast_dtype()}, keywords=40, key_rule=2, "
-        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, credit=contained, lowercase=yes) "
+        f"coverage(model=smollm2-135m@{short_checksum('causal')}, dtype={fast_dtype()}, keywords=40, key_rule=3, "
+        f"occurrence=middle, window=32, blanks=240, per_keyword=6, headline=logprob, credit=contained, lowercase=yes, "
+        f"rows=alone) "
         f"on boildown {package_version('boildown')}, torch {package_version('torch')}, "
         f"transformers {package_version('transformers')}, spacy {package_version('spacy')}"
     )
@@ -119,7 +140,7 @@ def test_baseline_is_computed_once_per_document():
     scorer = CoverageScorer()
     calls = []
     real = scorer._runs  # one pass over the windows per prefix it is given
-    scorer._runs = lambda prefixes, plan: calls.extend(len(p) for p in prefixes) or real(prefixes, plan)
+    scorer._runs = lambda prefixes, plan, reads=None: calls.extend(len(p) for p in prefixes) or real(prefixes, plan, reads)
     scorer.score_many([GOOD, GOOD + " " + GOOD[:40], UNRELATED], source=SOURCE)
     # three summary passes, and one filler pass per distinct filler length (32-token buckets)
     assert len(calls) <= 3 + 2
@@ -160,7 +181,28 @@ def test_grouped_query_attention_scores_as_the_copying_path(monkeypatch):
     copied = CoverageScorer().score_many(texts, source=SOURCE)
     for a, b in zip(grouped, copied):
         assert a.value == pytest.approx(b.value, abs=1e-4)
-        assert [k.p_with for k in a.keywords] == pytest.approx([k.p_with for k in b.keywords], rel=1e-3)
+        assert [k.p_with is None for k in a.keywords] == [k.p_with is None for k in b.keywords]
+        assert [k.p_with for k in a.keywords if k.p_with is not None] == pytest.approx(
+            [k.p_with for k in b.keywords if k.p_with is not None], rel=1e-3)
+
+
+@pytest.mark.models
+def test_reading_only_the_carried_words_ranges_gives_the_same_scores_as_reading_all():
+    # read="carried" skips the ranges of key words the summary does not carry (they earn no
+    # credit); every reported number must equal read="all"'s, only the left-out words'
+    # probabilities with the summary go unmeasured (None).
+    texts = [GOOD, UNRELATED, GOOD.split(";")[0]]
+    carried = CoverageScorer().score_many(texts, source=SOURCE)
+    every = CoverageScorer(CoverageConfig(read="all")).score_many(texts, source=SOURCE)
+    for a, b in zip(carried, every):
+        for name in ("value", "share", "logprob_gain", "accuracy_gain", "prob_gain", "accuracy_with", "n_blanks"):
+            assert getattr(a, name) == pytest.approx(getattr(b, name), abs=1e-5), name  # batches of other shapes round differently in the 6th decimal
+        assert a.missed == b.missed and a.recovered == b.recovered
+        for x, y in zip(a.keywords, b.keywords):
+            assert y.p_with is not None
+            if x.in_summary:
+                assert x.p_with == pytest.approx(y.p_with, rel=1e-5)
+    assert any(k.p_with is None for k in carried[1].keywords)  # the unrelated text carries little
 
 
 @pytest.mark.models
