@@ -15,7 +15,6 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
-import math
 import re
 import sys
 import time
@@ -50,35 +49,13 @@ def correlations(docs, values: dict[tuple, float]) -> tuple[float, float]:
 
 
 def evidence_variants(res) -> dict[str, float]:
-    """Other ways to total the same key-word evidence (no further model pass): every key word's
-    gain (the earlier credit), each contained key word's share of its own surprisal removed (so a
-    rare name does not outweigh a common word), and the share of key words contained (lexical).
-    The per-key-word log-probabilities are read from the mean probabilities of its blanks (one
-    blank per key word in the default mode)."""
-    ev = res.keywords
-    if not ev:
-        return {}
-    n = len(ev)
-    gain = [math.log(max(k.p_with, 1e-12)) - math.log(max(k.p_without, 1e-12)) for k in ev]
-    own = [min(1.0, max(0.0, g / -math.log(max(k.p_without, 1e-12)))) if k.p_without < 1 else 0.0
-           for g, k in zip(gain, ev)]
-    weighted = {}
-    surprisal = [-math.log(max(k.p_without, 1e-12)) for k in ev]
-    for names in (1.0, 0.5, 0.25, 0.0):  # the weight of a name among the key words
-        w = [names if k.is_name else 1.0 for k in ev]
-        for cap in (None, 2.0, 4.0):  # each key word's gain (and surprisal) counted up to this many nats
-            top = (lambda x: x) if cap is None else (lambda x, c=cap: min(x, c))
-            den = sum(wi * top(s) for wi, s in zip(w, surprisal))
-            num = sum(wi * top(g) for wi, g, k in zip(w, gain, ev) if k.in_summary)
-            label = f"variant: names x{names:g}, gain {'uncapped' if cap is None else f'capped at {cap:g} nats'}"
-            weighted[label] = num / den if den > 0 else 0.0
-        weighted[f"variant: names x{names:g}, share of key words contained"] = (
-            sum(wi for wi, k in zip(w, ev) if k.in_summary) / sum(w) if sum(w) else 0.0)
-    return weighted | {
-        "variant: every key word's gain (credit all)": sum(gain) / n,
-        "variant: per-key-word share, contained": sum(o for o, k in zip(own, ev) if k.in_summary) / n,
-        "variant: share of key words contained": sum(bool(k.in_summary) for k in ev) / n,
-    }
+    """Other ways to total the same key-word evidence (bench/coverage_variants.py): every key
+    word's gain (the earlier credit), each contained key word's share of its own surprisal
+    removed, the share of key words contained (lexical), and names weighted down or each gain
+    capped."""
+    from bench.coverage_variants import totals
+
+    return totals([(k.p_without, k.p_with, bool(k.in_summary), k.is_name) for k in res.keywords])
 
 
 def main(argv=None):

@@ -61,7 +61,8 @@ def run_pairs(scorer, pairs: list[dict], rows: list[dict]) -> list[dict]:
         rows += rows_of("demo", source, p["good"], good) + rows_of("demo", source, p["weak"], weak)
         out.append({"pair": p["name"], "document": p["document"], "good": round(100 * good.share, 1),
                     "weak": round(100 * weak.share, 1), "margin": round(100 * (good.share - weak.share), 1),
-                    "good_missed": list(good.missed), "weak_recovered": list(weak.recovered)})
+                    "good_missed": list(good.missed), "weak_recovered": list(weak.recovered),
+                    "good_text": p["good"], "weak_text": p["weak"]})
         print(f"  {p['name']:22s} good {out[-1]['good']:5.1f}  weak {out[-1]['weak']:5.1f}  margin {out[-1]['margin']:5.1f}",
               file=sys.stderr)
     return out
@@ -112,6 +113,28 @@ def main(argv=None):
     finish(pairs, own, str(scorer.signature()), rows, args.rows, args.name, round(time.perf_counter() - started, 1))
 
 
+def variant_margins(pairs: list[dict], rows: list[dict]) -> dict[str, dict]:
+    """The pairs' margins (points) under the other totals of the same evidence
+    (bench/coverage_variants.py, as on REALSumm in bench/coverage_validity.py): does weighting
+    names down, or capping each key word's gain, separate findings from names?"""
+    from bench.coverage_variants import totals
+
+    by_summary: dict[str, list] = {}
+    for r in rows:
+        if r["kind"] == "demo" and r["p1"] is not None:
+            by_summary.setdefault(r["summary"], []).append((r["p0"], r["p1"], bool(r["in_summary"]), r["is_name"]))
+    texts = {p["pair"]: (p["good_text"], p["weak_text"]) for p in pairs if "good_text" in p}
+    out: dict[str, dict] = {}
+    for pair, (good, weak) in texts.items():
+        a, b = totals(by_summary.get(good, [])), totals(by_summary.get(weak, []))
+        for label in a:
+            out.setdefault(label, {"margins": []})["margins"].append(round(100 * (a[label] - b[label]), 1))
+    for v in out.values():
+        v["min"], v["mean"] = min(v["margins"]), round(sum(v["margins"]) / len(v["margins"]), 1)
+        v["at_target"] = sum(m >= PAIR_MARGIN for m in v["margins"])
+    return out
+
+
 def finish(pairs, own, signature, rows, rows_path, name, seconds):
     margins = [p["margin"] for p in pairs]
     wins = sum(s["own"] > s["other"] for s in own)
@@ -126,6 +149,7 @@ def finish(pairs, own, signature, rows, rows_path, name, seconds):
         "own_mean": round(sum(s["own"] for s in own) / len(own), 1) if own else None,
         "other_mean": round(sum(s["other"] for s in own) / len(own), 1) if own else None,
     }
+    summary["variants"] = variant_margins(pairs, rows)
     if rows_path is not None:
         rows_path.write_text(json.dumps({"signature": signature, "rows": rows}))
     print(json.dumps(summary, indent=1))

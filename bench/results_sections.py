@@ -61,8 +61,10 @@ def coverage_totals(d: dict) -> list[str]:
     out = [f"The rules in use (key words without units, bare numbers or near-ubiquitous words, names capped; "
            f"credit `{c['credit']}`, headline `{c['headline']}`) on the first {d['documents']} REALSumm documents, "
            "and the same evidence totalled in other ways without another model pass: every key word's gain "
-           "(the earlier credit), each contained key word's share of its own surprisal (`keyshare`), and the "
-           f"plain share of key words the summary contains ({when(d)}, "
+           "(the earlier credit), each contained key word's share of its own surprisal (`keyshare`), the "
+           "plain share of key words the summary contains, and names weighted down among the key words "
+           "(x1 = as they are, x0 = left out) with each key word's gain counted whole or capped "
+           f"({when(d)}, "
            f"`{PYTHON} bench/coverage_validity.py --docs {d['documents']} --name coverage_validity_{d['documents']}`). "
            "The table above is the earlier 100-document run, before these rules.", "",
            "| measure | summary-level tau | system-level tau |", "|---|---|---|"]
@@ -159,6 +161,14 @@ def keyword_pairs(d: dict) -> list[str]:
         out.append(f"| {p['pair']} | {p['document']} | {p['good']:.1f}% | {p['weak']:.1f}% | {p['margin']:+.1f} |")
     out += ["", f"Smallest margin {s['pairs_min_margin']:+.1f} points, mean {s['pairs_mean_margin']:+.1f}; "
             f"{s['pairs_at_target']} of {s['pairs']} pairs at the target."]
+    if s.get("variants"):
+        out += ["", "The same run's evidence totalled in other ways (`bench/coverage_variants.py`; the REALSumm "
+                "taus of the same totals are in the side-by-side table above): names weighted down among the key "
+                "words, or each key word's gain capped, against the margins of the value in use:", "",
+                "| total | pairs at +10 | smallest margin | mean margin |", "|---|---|---|---|"]
+        for label, v in s["variants"].items():
+            out.append(f"| {label.removeprefix('variant: ')} | {v['at_target']} of {len(v['margins'])} | "
+                       f"{v['min']:+.1f} | {v['mean']:+.1f} |")
     if s.get("stories"):
         out += ["", f"SQuALITY dev, each story's first human summary against a human summary of the next story "
                 f"cut to the same length: the own summary covers more in {s['own_wins']} of {s['stories']} stories "
