@@ -155,8 +155,13 @@ def model_rates(d: dict) -> list[str]:
         out.append(f"| {name} | {st['seconds']:.2f} | {st['gflop']:.1f} | {st['tokens']:,} | "
                    f"{_gflops(st['gflops'])} | {100 * st['share_of_peak']:.0f}% |")
     cov = d["stages"].get("coverage pass (a further candidate)")
+    fresh = (f"; one whose coverage prefix falls in a length bucket not seen yet pays a fresh baseline pass "
+             f"over every window and costs {d['further_new_bucket_to_first']:.2f}x "
+             f"({d['further_new_bucket_s']:.1f} s)" if "further_new_bucket_s" in d else "")
     out += ["", f"A further candidate's full scoring costs **{d['further_to_first']:.2f}x** the first's "
             f"({d['further_s']:.1f} s against {d['first_s']:.1f} s; target at most 0.25x)"
+            + (" when its coverage prefix falls in a length bucket already read (the usual case for "
+               "candidates cut to one budget)" if fresh else "") + fresh
             + (f"; the coverage pass runs at **{100 * cov['share_of_peak']:.0f}%** of peak (target at least 70%)"
                if cov else "") + ". Where the coverage pass spends its time, by operator: "
             + ", ".join(f"{op} {100 * share:.0f}%" for op, share in d["coverage_pass_profile"][:6])
