@@ -151,8 +151,6 @@ def main(argv=None):
 def _by_bucket(cov, summary: str, n: int) -> tuple[list[str], list[str]]:
     """``n`` 150-word passages whose coverage prefix falls in ``summary``'s length bucket, and
     ``n`` whose bucket differs from it (and from each other's: each pays its own baseline)."""
-    from bench.coverage_speed import corpus, words
-
     bucket = cov._prefix_ids(summary)[1]
     same, fresh, seen = [], [], {bucket}
     for size in (6000, 9000, 12000, 20000):
